@@ -1,0 +1,57 @@
+#!/usr/bin/env node
+/**
+ * sojourn command-line entry point: the only place that parses argv. Exit status 0 on success,
+ * 1 for bad input or an analysis that cannot give a defensible number, 2 for usage errors.
+ */
+import { realpathSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { Command, CommanderError } from 'commander';
+import { COMMANDS } from './commands/index.js';
+import { exitStatusFor, InputError, UsageError, AnalysisError } from './errors.js';
+import { VERSION } from './version.js';
+
+/** Build the commander program with every registered command. */
+export function buildProgram(): Command {
+  const program = new Command('sojourn')
+    .description('Defensible numbers from existing molecular-dynamics output: structure, transport, convergence.')
+    .version(VERSION, '-V, --version')
+    .showHelpAfterError(false)
+    .exitOverride();
+  for (const register of COMMANDS) register(program);
+  program.commands.forEach((c) => c.exitOverride());
+  return program;
+}
+
+/** Run the CLI on argv; returns the exit status. */
+export async function main(argv: string[]): Promise<number> {
+  const program = buildProgram();
+  try {
+    await program.parseAsync(argv);
+    return 0;
+  } catch (err) {
+    if (err instanceof CommanderError) {
+      // --help and --version end here with exitCode 0; commander already printed them.
+      return err.exitCode === 0 ? 0 : 2;
+    }
+    if (err instanceof InputError || err instanceof UsageError || err instanceof AnalysisError) {
+      process.stderr.write(`sojourn: ${err instanceof UsageError ? 'usage error' : 'error'}: ${err.message}\n`);
+    } else {
+      process.stderr.write(`sojourn: internal error: ${err instanceof Error ? err.stack ?? err.message : String(err)}\n`);
+    }
+    return exitStatusFor(err);
+  }
+}
+
+function invokedDirectly(): boolean {
+  if (!process.argv[1]) return false;
+  try {
+    return realpathSync(process.argv[1]) === fileURLToPath(import.meta.url);
+  } catch {
+    return false;
+  }
+}
+if (invokedDirectly()) {
+  main(process.argv).then((code) => {
+    process.exitCode = code;
+  });
+}

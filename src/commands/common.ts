@@ -1,0 +1,131 @@
+/**
+ * Shared plumbing for the commands: common options, opening a trajectory and running passes
+ * on it, progress on a TTY, and printing either the human table or the JSON envelope.
+ * Only the CLI layer (src/cli.ts and src/commands/) reads argv-derived options.
+ */
+import { Command, Option } from 'commander';
+import cliProgress from 'cli-progress';
+import { openTrajectory } from '../../readers/index.js';
+import { runPasses, parseFrameRange, type RunOutput } from '../runner.js';
+import { parseQuantity } from '../units.js';
+import { cellFromParameters, orthorhombicCell } from '../cell.js';
+import { UsageError } from '../errors.js';
+import { envelope, toJson, type InputRecord } from '../output.js';
+import type { CellMatrix, Pass, Warnings } from '../types.js';
+
+/** Options every trajectory command accepts. */
+export interface TrajectoryOptions {
+  format?: 'xyz' | 'pdb';
+  strict?: boolean;
+  box?: string;
+  frames?: string;
+  frameInterval?: string;
+  json?: boolean;
+  quiet?: boolean;
+}
+
+/** Add --json and --quiet. */
+export function addOutputOptions(cmd: Command): Command {
+  return cmd
+    .option('--json', 'print one JSON object (the result envelope) on stdout instead of tables')
+    .option('--quiet', 'no progress display and no warnings on stderr');
+}
+
+/** Add the options that say how to read a trajectory. */
+export function addTrajectoryOptions(cmd: Command): Command {
+  cmd
+    .addOption(new Option('--format <kind>', 'input format when the name does not tell').choices(['xyz', 'pdb']))
+    .option('--strict', 'treat a truncated last frame as an error instead of a warning')
+    .option('--box <lengths>', 'periodic cell for files that carry none: "a,b,c" (Å) or "a,b,c,alpha,beta,gamma" (Å, degrees); units allowed, e.g. "3nm,3nm,3nm"')
+    .option('--frames <from:to[:stride]>', 'use frames FROM..TO-1 (0-based) with a stride')
+    .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs');
+  return addOutputOptions(cmd);
+}
+
+/** Parse --box into a cell matrix (Å). */
+export function parseBox(text: string): CellMatrix {
+  const parts = text.split(',').map((s) => s.trim());
+  if (parts.length !== 3 && parts.length !== 6) throw new UsageError(`--box: expected 3 lengths or 3 lengths and 3 angles, got "${text}"`);
+  const len = parts.slice(0, 3).map((p) => parseQuantity(p, 'length', '--box', 'A'));
+  if (len.some((x) => !(x > 0))) throw new UsageError(`--box: lengths must be positive, got "${text}"`);
+  if (parts.length === 3) return orthorhombicCell(len[0], len[1], len[2]);
+  const ang = parts.slice(3).map((p) => Number(p.replace(/deg$/, '')));
+  const cell = cellFromParameters(len[0], len[1], len[2], ang[0], ang[1], ang[2]);
+  if (!cell) throw new UsageError(`--box: angles ${ang.join(', ')} do not make a cell`);
+  return cell;
+}
+
+/** Parse an optional positive time option (ps). */
+export function parsePositiveTime(text: string | undefined, what: string): number | null {
+  if (text === undefined) return null;
+  const v = parseQuantity(text, 'time', what);
+  if (!(v > 0)) throw new UsageError(`${what} must be positive, got "${text}"`);
+  return v;
+}
+
+/** Result of reading one trajectory through a set of passes. */
+export interface TrajectoryRun extends RunOutput {
+  input: InputRecord;
+}
+
+/** A progress display on stderr, only on a TTY and without --quiet. */
+export function progressFor(label: string, quiet: boolean | undefined): { tick: (n: number) => void; stop: () => void } {
+  if (quiet || !process.stderr.isTTY) return { tick: () => {}, stop: () => {} };
+  const bar = new cliProgress.SingleBar(
+    { format: `${label} {value} frames  {duration_formatted}`, stream: process.stderr, fps: 5, hideCursor: true },
+    cliProgress.Presets.shades_classic,
+  );
+  bar.start(0, 0);
+  return { tick: (n) => bar.update(n), stop: () => bar.stop() };
+}
+
+/** Open `file`, run `passes` on one read of it, and describe the input for the envelope. */
+export async function runOnTrajectory(
+  file: string,
+  opts: TrajectoryOptions,
+  passes: Pass[],
+  warnings: Warnings,
+): Promise<TrajectoryRun> {
+  const frameInterval = parsePositiveTime(opts.frameInterval, '--frame-interval');
+  const cell = opts.box ? parseBox(opts.box) : null;
+  const range = opts.frames ? parseFrameRange(opts.frames) : undefined;
+  const input = await openTrajectory(file, { format: opts.format, strict: !!opts.strict, warnings });
+  const progress = progressFor(file, opts.quiet);
+  let out: RunOutput;
+  try {
+    out = await runPasses(input, passes, { frameInterval, cell, range, warnings, onFrame: progress.tick });
+  } finally {
+    progress.stop();
+  }
+  return {
+    ...out,
+    input: { path: file, sha256: input.sha256(), bytes: input.rawBytes(), format: input.format, frames: input.framesRead() },
+  };
+}
+
+/** Print warnings to stderr (unless quiet). */
+export function printWarnings(warnings: Warnings, quiet?: boolean): void {
+  if (quiet) return;
+  for (const w of warnings) process.stderr.write(`sojourn: warning: ${w}\n`);
+}
+
+/**
+ * Finish a command: with --json print the envelope on stdout, otherwise the human text; warnings
+ * go to stderr in the human mode and into the envelope in JSON mode.
+ */
+export function emit(
+  command: string,
+  opts: { json?: boolean; quiet?: boolean },
+  inputs: InputRecord[],
+  options: Record<string, unknown>,
+  results: unknown,
+  warnings: Warnings,
+  human: () => string,
+): void {
+  if (opts.json) {
+    process.stdout.write(toJson(envelope(command, inputs, options, results, warnings)) + '\n');
+  } else {
+    process.stdout.write(human() + '\n');
+    printWarnings(warnings, opts.quiet);
+  }
+}

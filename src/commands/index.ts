@@ -1,0 +1,10 @@
+/**
+ * The command registry: each command module exports `register(program)`.
+ * Add one line here per command.
+ */
+import type { Command } from 'commander';
+import { register as inspect } from './inspect.js';
+
+export const COMMANDS: Array<(program: Command) => void> = [
+  inspect,
+];

@@ -1,0 +1,35 @@
+/** `sojourn inspect FILE`: what a trajectory holds. */
+import type { Command } from 'commander';
+import { overviewPass, type OverviewResult } from '../../analyses/overview.js';
+import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
+import { formatSig, formatTable } from '../output.js';
+import { finishPasses } from '../runner.js';
+
+/** Human-readable text of an overview. */
+export function renderOverview(file: string, r: OverviewResult): string {
+  const rows: string[][] = [
+    ['frames', String(r.frames)],
+    ['atoms', String(r.atoms)],
+    ['species', Object.entries(r.species).map(([k, v]) => `${k} ${v}`).join(', ')],
+    ['cell lengths', r.cell ? r.cell.lengths.map((x) => formatSig(x, 6)).join(' × ') + ' Å' : 'none'],
+    ['cell angles', r.cell ? r.cell.angles.map((x) => formatSig(x, 5)).join(', ') + ' °' : '—'],
+    ['cell volume', r.cell ? `${formatSig(r.cell.volume, 6)} Å³` : '—'],
+    ['cell varies', r.cellVaries ? `yes (mean volume ${formatSig(r.meanVolume!.value, 6)} Å³, sd ${formatSig(r.meanVolume!.uncertainty ?? 0, 3)})` : 'no'],
+    ['velocities', r.hasVelocities ? 'yes' : 'no'],
+    ['time span', r.timeSpan ? `${formatSig(r.timeSpan.value, 6)} ps` : 'unknown (no times in file)'],
+    ['frame interval', r.frameInterval ? `${formatSig(r.frameInterval.value, 6)} ps` : 'unknown'],
+    ['number density', r.numberDensity ? `${formatSig(r.numberDensity.value, 5)} Å⁻³` : '—'],
+    ['mass density', r.massDensity ? `${formatSig(r.massDensity.value, 5)} g/cm³` : '—'],
+  ];
+  return `${file}\n${formatTable(['property', 'value'], rows)}`;
+}
+
+export function register(program: Command): void {
+  const cmd = program.command('inspect <file>').description('report what a trajectory holds: frames, atoms, species, cell, densities');
+  addTrajectoryOptions(cmd).action(async (file: string, opts: TrajectoryOptions) => {
+    const warnings: string[] = [];
+    const run = await runOnTrajectory(file, opts, [overviewPass], warnings);
+    const results = finishPasses([overviewPass], run.partials, run.ctx).overview as OverviewResult;
+    emit('inspect', opts, [run.input], { ...opts }, results, warnings, () => renderOverview(file, results));
+  });
+}

@@ -1,0 +1,135 @@
+/**
+ * Output helpers: the JSON envelope every command prints with --json, atomic file writes,
+ * number formatting with uncertainties, and aligned text tables.
+ */
+import { promises as fsp, realpathSync, existsSync } from 'node:fs';
+import * as path from 'node:path';
+import { randomBytes } from 'node:crypto';
+import { UsageError } from './errors.js';
+import type { Quantity } from './types.js';
+import { VERSION } from './version.js';
+
+/** Description of one input file in the JSON envelope. */
+export interface InputRecord {
+  path: string;
+  sha256: string;
+  bytes: number;
+  format: string;
+  frames: number | null;
+}
+
+/** The one JSON object a command prints with --json. */
+export interface Envelope {
+  tool: 'sojourn';
+  version: string;
+  command: string;
+  inputs: InputRecord[];
+  options: Record<string, unknown>;
+  results: unknown;
+  warnings: string[];
+}
+
+/** Build the JSON envelope. Options with undefined values are dropped. */
+export function envelope(
+  command: string,
+  inputs: InputRecord[],
+  options: Record<string, unknown>,
+  results: unknown,
+  warnings: string[],
+): Envelope {
+  const opts: Record<string, unknown> = {};
+  for (const [k, v] of Object.entries(options)) if (v !== undefined) opts[k] = v;
+  return { tool: 'sojourn', version: VERSION, command, inputs, options: opts, results, warnings };
+}
+
+/** JSON.stringify that writes typed arrays as plain arrays and non-finite numbers as null. */
+export function toJson(value: unknown, indent = 2): string {
+  return JSON.stringify(
+    value,
+    (_k, v) => {
+      if (ArrayBuffer.isView(v) && !(v instanceof DataView)) return Array.from(v as unknown as ArrayLike<number>);
+      if (v instanceof Map) return Object.fromEntries(v);
+      if (typeof v === 'number' && !Number.isFinite(v)) return null;
+      return v;
+    },
+    indent,
+  );
+}
+
+/**
+ * Write a file atomically: the data go to a temporary name in the same directory, which is
+ * renamed over the target only when complete, so a reader never sees a half-written file.
+ */
+export async function writeFileAtomic(target: string, data: string | Uint8Array): Promise<void> {
+  const dir = path.dirname(path.resolve(target));
+  const tmp = path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
+  try {
+    await fsp.writeFile(tmp, data);
+    await fsp.rename(tmp, target);
+  } catch (e) {
+    await fsp.rm(tmp, { force: true });
+    throw e;
+  }
+}
+
+/** Refuse an output path that is one of the inputs (compared after resolving links). */
+export function refuseOverwritingInputs(output: string, inputs: string[]): void {
+  const resolve = (p: string) => (existsSync(p) ? realpathSync(p) : path.resolve(p));
+  const out = resolve(output);
+  for (const i of inputs) {
+    if (i === '-') continue;
+    if (resolve(i) === out) throw new UsageError(`output ${output} is also an input; refusing to overwrite it`);
+  }
+}
+
+/**
+ * Format value ± uncertainty with the uncertainty to two significant figures and the value to
+ * the same decimal place (common practice, no source; cf. JCGM 100:2008 §7.2.6).
+ */
+export function formatValue(value: number, uncertainty: number | null, digits = 4): string {
+  if (!Number.isFinite(value)) return String(value);
+  if (uncertainty === null || !Number.isFinite(uncertainty) || uncertainty <= 0) {
+    return formatSig(value, digits);
+  }
+  const e = Math.floor(Math.log10(uncertainty)) - 1;
+  const big = Math.abs(value) >= 1e6 || (Math.abs(value) < 1e-3 && value !== 0);
+  if (big) {
+    const exp = Math.floor(Math.log10(Math.abs(value)));
+    const s = 10 ** exp;
+    const dec = Math.max(0, exp - e);
+    return `(${(value / s).toFixed(dec)} ± ${(uncertainty / s).toFixed(dec)})e${exp}`;
+  }
+  const dec = Math.max(0, -e);
+  return `${value.toFixed(dec)} ± ${uncertainty.toFixed(dec)}`;
+}
+
+/** A number to `digits` significant figures without trailing noise. */
+export function formatSig(value: number, digits = 4): string {
+  if (value === 0) return '0';
+  const a = Math.abs(value);
+  if (a >= 1e6 || a < 1e-3) return value.toExponential(digits - 1);
+  return Number(value.toPrecision(digits)).toString();
+}
+
+/** "value ± unc unit" for a Quantity scaled by `scale` into `unit` (for tables). */
+export function formatQuantity(q: Quantity | null, scale = 1, unit?: string): string {
+  if (q === null) return '—';
+  const u = unit ?? q.unit;
+  return `${formatValue(q.value * scale, q.uncertainty === null ? null : q.uncertainty * scale)}${u && u !== '1' ? ' ' + u : ''}`;
+}
+
+/** An aligned plain-text table (first column left-aligned, the rest right-aligned). */
+export function formatTable(headers: string[], rows: string[][]): string {
+  const widths = headers.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
+  const line = (cells: string[]) =>
+    cells.map((c, i) => (i === 0 ? c.padEnd(widths[i]) : c.padStart(widths[i]))).join('  ').trimEnd();
+  return [line(headers), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
+}
+
+/** CSV text from column names and equal-length numeric columns. */
+export function toCsv(names: string[], columns: ArrayLike<number>[]): string {
+  const n = columns.length ? columns[0].length : 0;
+  const out = [names.join(',')];
+  for (let i = 0; i < n; i++) out.push(columns.map((c) => (Number.isFinite(c[i]) ? String(c[i]) : '')).join(','));
+  return out.join('\n') + '\n';
+}

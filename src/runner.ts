@@ -1,0 +1,125 @@
+/**
+ * The pass runner: reads a trajectory once and feeds every frame to every pass, so that all
+ * analyses of a command share one read of the file.
+ */
+import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Warnings } from './types.js';
+import { InputError, UsageError } from './errors.js';
+
+/** A source of frames, as produced by readers/index.ts openTrajectory. */
+export interface FrameSource {
+  path: string;
+  frames(): AsyncGenerator<Frame>;
+}
+
+/** Which frames to use: [from, to) with a stride (all 0-based frame indices of the file). */
+export interface FrameRange {
+  from: number;
+  to: number; // exclusive; Infinity for "to the end"
+  stride: number;
+}
+
+export interface RunOptions {
+  /** Time between frames (ps) given by the user; checked against the file's own times. */
+  frameInterval: number | null;
+  /** Cell to use for frames that carry none (e.g. plain XYZ), Å. */
+  cell: CellMatrix | null;
+  range?: FrameRange;
+  warnings: Warnings;
+  /** Called after each used frame with the number of frames used so far. */
+  onFrame?: (used: number) => void;
+}
+
+export interface RunOutput {
+  ctx: PassContext;
+  partials: unknown[];
+  /** Frames used by the passes. */
+  framesUsed: number;
+  /** Index of the first and last frame used. */
+  firstIndex: number;
+  lastIndex: number;
+}
+
+/** Parse "A:B" or "A:B:S" (0-based, end exclusive, either end may be empty) into a FrameRange. */
+export function parseFrameRange(text: string): FrameRange {
+  const m = /^(\d*):(\d*)(?::(\d+))?$/.exec(text.trim());
+  if (!m) throw new UsageError(`--frames: expected FROM:TO or FROM:TO:STRIDE (0-based, TO exclusive), got "${text}"`);
+  const from = m[1] === '' ? 0 : Number(m[1]);
+  const to = m[2] === '' ? Infinity : Number(m[2]);
+  const stride = m[3] === undefined ? 1 : Number(m[3]);
+  if (stride < 1) throw new UsageError(`--frames: stride must be at least 1`);
+  if (to <= from) throw new UsageError(`--frames: empty range "${text}"`);
+  return { from, to, stride };
+}
+
+/**
+ * Run passes over one read of `source`. Frame times from the file, when present, fix the frame
+ * interval (a user value that disagrees by more than 0.1 % is a usage error); otherwise the
+ * user's value is used, multiplied by the stride.
+ */
+export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOptions): Promise<RunOutput> {
+  const range = opts.range ?? { from: 0, to: Infinity, stride: 1 };
+  let accs: PassAccumulator<unknown>[] | null = null;
+  let ctx: PassContext | null = null;
+  let used = 0;
+  let firstIndex = -1;
+  let lastIndex = -1;
+  let firstTime: number | null = null;
+  let prevTime: number | null = null;
+  let fileInterval: number | null = null;
+  let irregular = false;
+  for await (const f of source.frames()) {
+    if (f.index < range.from) continue;
+    if (f.index >= range.to) break;
+    if ((f.index - range.from) % range.stride !== 0) continue;
+    if (f.cell === null && opts.cell !== null) f.cell = opts.cell;
+    if (f.time !== null) {
+      if (prevTime !== null) {
+        const dt = f.time - prevTime;
+        if (!(dt > 0)) {
+          throw new InputError(source.path, f.line, null, `frame ${f.index} has time ${f.time} ps, not after the previous frame's ${prevTime} ps`);
+        }
+        if (fileInterval === null) fileInterval = dt;
+        else if (Math.abs(dt - fileInterval) > 1e-6 * Math.max(1, fileInterval) + 1e-9 * Math.abs(f.time)) irregular = true;
+      } else firstTime = f.time;
+      prevTime = f.time;
+    }
+    if (accs === null) {
+      ctx = {
+        topology: f.topology,
+        firstCell: f.cell ? Float64Array.from(f.cell) : null,
+        frameInterval: opts.frameInterval !== null ? opts.frameInterval * range.stride : null,
+        warnings: opts.warnings,
+      };
+      const c = ctx;
+      accs = passes.map((p) => p.create(c));
+      firstIndex = f.index;
+    }
+    for (const a of accs) a.frame(f);
+    used++;
+    lastIndex = f.index;
+    opts.onFrame?.(used);
+  }
+  if (accs === null || ctx === null) {
+    throw new InputError(source.path, null, null, range.from > 0 ? `no frames in the range ${range.from}:${range.to === Infinity ? '' : range.to}` : 'no complete frames');
+  }
+  if (fileInterval !== null) {
+    if (irregular) opts.warnings.push(`${source.path}: frame times are not evenly spaced; the first interval (${fileInterval} ps) is used`);
+    if (ctx.frameInterval !== null && Math.abs(ctx.frameInterval - fileInterval) > 1e-3 * fileInterval) {
+      throw new UsageError(
+        `--frame-interval gives ${ctx.frameInterval} ps between used frames but ${source.path} carries times ${fileInterval} ps apart`,
+      );
+    }
+    ctx.frameInterval = fileInterval;
+  }
+  void firstTime;
+  return { ctx, partials: accs.map((a) => a.partial()), framesUsed: used, firstIndex, lastIndex };
+}
+
+/** Finish every pass from its (merged) partial. */
+export function finishPasses(passes: Pass[], partials: unknown[], ctx: PassContext): Record<string, unknown> {
+  const out: Record<string, unknown> = {};
+  passes.forEach((p, i) => {
+    out[p.name] = p.finish(partials[i], ctx);
+  });
+  return out;
+}
