@@ -1,0 +1,463 @@
+/**
+ * Line splitting over byte chunks and byte-level number parsing.
+ *
+ * Design: a format parser is a synchronous per-line state machine (a LineHandler). The async
+ * generator `splitLines` pulls byte chunks, cuts them into lines with Uint8Array.indexOf(10)
+ * and calls the handler for each line without creating strings; it yields only when the
+ * handler reports a completed item (a frame), so the async machinery costs one await per
+ * chunk and one yield per frame, never one per line.
+ *
+ * Lines: '\n' ends a line; a '\r' just before it is dropped (CRLF files read like LF files).
+ * A last line without a final '\n' is still a line. Line numbers are 1-based and count lines
+ * of the decompressed text.
+ *
+ * Numbers (LineCursor.float): optional sign, digits, optional '.', digits, optional exponent
+ * introduced by e, E, d or D (Fortran double-precision exponents are accepted) with an
+ * optional sign and at least one digit. At least one mantissa digit is required (".5" and
+ * "5." are fine). The token must be followed by a blank (space, tab, CR), the end of the line
+ * or of the field, or the table delimiter. Values are exactly what Number() gives for the same
+ * token (with D read as e): the fast path is exact (Clinger): when the decimal mantissa is
+ * below 2^53 and |power of ten| <= 22, one IEEE multiply or divide by an exactly representable
+ * power of ten rounds correctly; anything else goes through Number() on the token text.
+ * NaN, Inf, Infinity, values overflowing to ±Infinity and malformed tokens raise InputError
+ * with file:line:column and what was expected.
+ */
+import { InputError } from '../src/errors.js';
+
+/** A synchronous line-by-line parser. */
+export interface LineHandler<T> {
+  /**
+   * Handle one line: bytes buf[start, end), without the '\n' and without a '\r' just before
+   * it. `buf` is only valid during the call. Return a completed item or null.
+   */
+  line(buf: Uint8Array, start: number, end: number, lineNo: number): T | null;
+  /**
+   * End of input. `lines` is the number of lines seen. When the last line had no '\n' and
+   * the handler threw an InputError on it, `brokenLastLine` carries that error (the line was
+   * probably cut off) and the handler should treat its current item as truncated.
+   * May return one last item.
+   */
+  finish(lines: number, brokenLastLine: InputError | null): T | null;
+}
+
+const EMPTY = new Uint8Array(0);
+
+/**
+ * Feed the lines of a chunk stream to a handler, yielding each completed item.
+ *
+ * `onHandlerError`, if given, is awaited when the handler throws, before the error is
+ * rethrown; it may throw a different error instead (the gzip layer uses this to report a
+ * corrupted stream rather than the parse error that the corrupted bytes caused). The chunk
+ * iterator is returned (closed) in every case.
+ */
+export async function* splitLines<T>(
+  chunks: AsyncIterator<Uint8Array>,
+  handler: LineHandler<T>,
+  onHandlerError?: (err: unknown) => Promise<void>,
+): AsyncGenerator<T, void, undefined> {
+  let carry: Uint8Array = EMPTY;
+  let carryLen = 0;
+  let lineNo = 0;
+  let closed = false;
+  try {
+    for (;;) {
+      const r = await chunks.next();
+      if (r.done) break;
+      const chunk = r.value;
+      const n = chunk.length;
+      let pos = 0;
+      let item: T | null;
+      if (carryLen > 0) {
+        const nl = chunk.indexOf(10);
+        if (nl < 0) {
+          // Whole chunk belongs to the pending line.
+          carry = grow(carry, carryLen + n);
+          carry.set(chunk, carryLen);
+          carryLen += n;
+          continue;
+        }
+        carry = grow(carry, carryLen + nl);
+        carry.set(chunk.subarray(0, nl), carryLen);
+        let end = carryLen + nl;
+        carryLen = 0;
+        if (end > 0 && carry[end - 1] === 13) end--;
+        lineNo++;
+        item = callLine(handler, carry, 0, end, lineNo, onHandlerError);
+        if (item instanceof Promise) item = await item;
+        if (item !== null) yield item;
+        pos = nl + 1;
+      }
+      for (;;) {
+        const nl = chunk.indexOf(10, pos);
+        if (nl < 0) break;
+        const end = nl > pos && chunk[nl - 1] === 13 ? nl - 1 : nl;
+        lineNo++;
+        item = callLine(handler, chunk, pos, end, lineNo, onHandlerError);
+        if (item instanceof Promise) item = await item;
+        if (item !== null) yield item;
+        pos = nl + 1;
+      }
+      if (pos < n) {
+        carry = grow(carry, n - pos);
+        carry.set(chunk.subarray(pos), 0);
+        carryLen = n - pos;
+      }
+    }
+    closed = true;
+    let broken: InputError | null = null;
+    if (carryLen > 0) {
+      let end = carryLen;
+      if (carry[end - 1] === 13) end--;
+      lineNo++;
+      try {
+        const item = handler.line(carry, 0, end, lineNo);
+        if (item !== null) yield item;
+      } catch (e) {
+        if (!(e instanceof InputError)) throw e;
+        broken = e;
+      }
+    }
+    let last: T | null;
+    try {
+      last = handler.finish(lineNo, broken);
+    } catch (e) {
+      if (onHandlerError) await onHandlerError(e);
+      throw e;
+    }
+    if (last !== null) yield last;
+  } finally {
+    if (!closed && chunks.return) await chunks.return(undefined);
+  }
+}
+
+/** Call handler.line; on error give onHandlerError its chance, then rethrow. */
+function callLine<T>(
+  handler: LineHandler<T>,
+  buf: Uint8Array,
+  start: number,
+  end: number,
+  lineNo: number,
+  onHandlerError: ((err: unknown) => Promise<void>) | undefined,
+): T | null | Promise<never> {
+  try {
+    return handler.line(buf, start, end, lineNo);
+  } catch (e) {
+    if (!onHandlerError) throw e;
+    return onHandlerError(e).then(() => {
+      throw e;
+    });
+  }
+}
+
+function grow(buf: Uint8Array, need: number): Uint8Array {
+  if (buf.length >= need) return buf;
+  let cap = Math.max(256, buf.length * 2);
+  while (cap < need) cap *= 2;
+  const b = new Uint8Array(cap);
+  b.set(buf);
+  return b;
+}
+
+/** Exact powers of ten 10^0 … 10^22 (all exactly representable as doubles). */
+const POW10 = new Float64Array(23);
+for (let i = 0, p = 1; i <= 22; i++, p *= 10) POW10[i] = p;
+
+const TWO53 = 9007199254740992;
+
+/** Text of bytes buf[start, end) (Latin-1; the formats read here are ASCII). */
+export function latin1(buf: Uint8Array, start: number, end: number): string {
+  if (end - start < 64) {
+    let s = '';
+    for (let i = start; i < end; i++) s += String.fromCharCode(buf[i]!);
+    return s;
+  }
+  return Buffer.from(buf.buffer, buf.byteOffset + start, end - start).toString('latin1');
+}
+
+function isBlank(c: number): boolean {
+  return c === 32 || c === 9 || c === 13;
+}
+
+/**
+ * A cursor over one line of bytes, with token and number parsing. One instance is reused for
+ * every line of a file (set with `reset`). Errors name file:line:column (1-based column of
+ * the byte where the offending token starts).
+ */
+export class LineCursor {
+  readonly file: string;
+  buf: Uint8Array = EMPTY;
+  /** Current byte position. */
+  pos = 0;
+  /** End of the region being parsed (the line, or a fixed-width field). */
+  end = 0;
+  /** Start of the line (for column numbers). */
+  lineStart = 0;
+  /** End of the whole line. */
+  lineEnd = 0;
+  lineNo = 0;
+  /** Extra byte accepted right after a number as a delimiter (',' for CSV), or -1. */
+  delimiter = -1;
+
+  constructor(file: string) {
+    this.file = file;
+  }
+
+  reset(buf: Uint8Array, start: number, end: number, lineNo: number): void {
+    this.buf = buf;
+    this.pos = start;
+    this.end = end;
+    this.lineStart = start;
+    this.lineEnd = end;
+    this.lineNo = lineNo;
+  }
+
+  /** 1-based column of byte position p. */
+  column(p: number = this.pos): number {
+    return p - this.lineStart + 1;
+  }
+
+  /** Skip spaces, tabs and CRs. */
+  skipBlanks(): void {
+    const buf = this.buf;
+    const end = this.end;
+    let p = this.pos;
+    while (p < end && isBlank(buf[p]!)) p++;
+    this.pos = p;
+  }
+
+  /** True when only blanks remain (moves pos past them). */
+  atEnd(): boolean {
+    this.skipBlanks();
+    return this.pos >= this.end;
+  }
+
+  /** True when the whole line is blank. */
+  static isBlankLine(buf: Uint8Array, start: number, end: number): boolean {
+    for (let p = start; p < end; p++) if (!isBlank(buf[p]!)) return false;
+    return true;
+  }
+
+  /**
+   * Skip blanks, then move over one token (up to the next blank, or the delimiter).
+   * Returns the token's start; the token is buf[start, this.pos). Throws when no token is
+   * left, naming `what` was expected.
+   */
+  token(what: string): number {
+    const buf = this.buf;
+    const end = this.end;
+    const delim = this.delimiter;
+    let p = this.pos;
+    while (p < end && isBlank(buf[p]!)) p++;
+    if (p >= end) throw this.error(p, `expected ${what}, found end of line`);
+    const start = p;
+    let c: number;
+    while (p < end && !isBlank((c = buf[p]!)) && c !== delim) p++;
+    if (p === start) throw this.error(p, `expected ${what}, found '${String.fromCharCode(buf[p]!)}'`);
+    this.pos = p;
+    return start;
+  }
+
+  /** Count the blank-separated tokens from pos to the end (does not move pos). */
+  countTokens(): number {
+    const buf = this.buf;
+    const end = this.end;
+    let p = this.pos;
+    let n = 0;
+    for (;;) {
+      while (p < end && isBlank(buf[p]!)) p++;
+      if (p >= end) return n;
+      n++;
+      while (p < end && !isBlank(buf[p]!)) p++;
+    }
+  }
+
+  /** Throw unless only blanks remain. */
+  expectEnd(what: string): void {
+    this.skipBlanks();
+    if (this.pos < this.end) {
+      const s = this.pos;
+      const e = this.tokenEnd(s);
+      throw this.error(s, `unexpected '${latin1(this.buf, s, e)}' after ${what}`);
+    }
+  }
+
+  /** End of the blank-delimited token starting at p (limited to 40 bytes for messages). */
+  tokenEnd(p: number): number {
+    const buf = this.buf;
+    const end = Math.min(this.end, p + 40);
+    while (p < end && !isBlank(buf[p]!) && buf[p] !== this.delimiter) p++;
+    return p;
+  }
+
+  error(p: number, message: string): InputError {
+    return new InputError(this.file, this.lineNo, this.column(p), message);
+  }
+
+  /**
+   * Parse a floating-point number (see the module comment for the grammar). Leading blanks
+   * are skipped. `what` names the expected value in error messages (e.g. "x coordinate").
+   */
+  float(what: string): number {
+    const buf = this.buf;
+    const end = this.end;
+    let p = this.pos;
+    let c = 0;
+    while (p < end && ((c = buf[p]!) === 32 || c === 9 || c === 13)) p++;
+    if (p >= end) throw this.error(p, `expected ${what} (a number), found end of line`);
+    const start = p;
+    let neg = false;
+    if (c === 45) {
+      neg = true;
+      p++;
+    } else if (c === 43) {
+      p++;
+    }
+    let m = 0;
+    let nd = 0;
+    let scale = 0;
+    while (p < end && (c = buf[p]! - 48) >= 0 && c <= 9) {
+      m = m * 10 + c;
+      p++;
+      nd++;
+    }
+    if (p < end && buf[p] === 46) {
+      p++;
+      while (p < end && (c = buf[p]! - 48) >= 0 && c <= 9) {
+        m = m * 10 + c;
+        p++;
+        nd++;
+        scale--;
+      }
+    }
+    if (nd === 0) throw this.badNumber(start, what);
+    let e = 0;
+    if (p < end) {
+      c = buf[p]! | 0x20;
+      if (c === 101 || c === 100) {
+        p++;
+        let eneg = false;
+        if (p < end && ((c = buf[p]!) === 45 || c === 43)) {
+          eneg = c === 45;
+          p++;
+        }
+        let ed = 0;
+        while (p < end && (c = buf[p]! - 48) >= 0 && c <= 9) {
+          if (e < 100000) e = e * 10 + c;
+          p++;
+          ed++;
+        }
+        if (ed === 0) throw this.badNumber(start, what);
+        if (eneg) e = -e;
+      }
+      if (p < end) {
+        c = buf[p]!;
+        if (c !== 32 && c !== 9 && c !== 13 && c !== this.delimiter) throw this.badNumber(start, what);
+      }
+    }
+    this.pos = p;
+    const x = e + scale;
+    let v: number;
+    if (m < TWO53 && x >= -22 && x <= 22) {
+      v = x >= 0 ? m * POW10[x]! : m / POW10[-x]!;
+    } else {
+      v = this.slowNumber(start, p);
+      if (!Number.isFinite(v)) {
+        throw this.error(start, `${what} '${latin1(buf, start, p)}' is out of range (overflows to infinity)`);
+      }
+      return v;
+    }
+    return neg ? -v : v;
+  }
+
+  /**
+   * Parse a number occupying the fixed-width field [from, to) of the line (PDB columns,
+   * 0-based, end exclusive). Blanks around the number are allowed; a blank field is an error.
+   */
+  fieldFloat(from: number, to: number, what: string): number {
+    const ls = this.lineStart;
+    const saveEnd = this.end;
+    const a = ls + from;
+    const b = Math.min(ls + to, this.lineEnd);
+    if (a >= b) {
+      throw this.error(Math.min(a, this.lineEnd), `expected ${what} (a number in columns ${from + 1}-${to}), found end of line`);
+    }
+    this.pos = a;
+    this.end = b;
+    try {
+      if (this.atEnd()) throw this.error(a, `expected ${what} (a number in columns ${from + 1}-${to}), found a blank field`);
+      const v = this.float(what);
+      if (!this.atEnd()) throw this.badNumber(a, `${what} (a number in columns ${from + 1}-${to})`, b);
+      return v;
+    } finally {
+      this.end = saveEnd;
+    }
+  }
+
+  /** Number() of the token with Fortran D exponents read as E. */
+  private slowNumber(start: number, end: number): number {
+    let s = '';
+    const buf = this.buf;
+    for (let i = start; i < end; i++) {
+      const c = buf[i]!;
+      s += c === 100 || c === 68 ? 'e' : String.fromCharCode(c);
+    }
+    return Number(s);
+  }
+
+  private badNumber(start: number, what: string, limit?: number): InputError {
+    const buf = this.buf;
+    let e = start;
+    const stop = Math.min(limit ?? this.end, start + 40);
+    while (e < stop && !isBlank(buf[e]!) && buf[e] !== this.delimiter) e++;
+    if (limit !== undefined) {
+      // fixed-width field: show the whole field
+      e = stop;
+      while (e > start && isBlank(buf[e - 1]!)) e--;
+    }
+    const tok = latin1(buf, start, e);
+    const bare = tok.replace(/^[+-]/, '').toLowerCase();
+    if (bare === 'nan' || bare.startsWith('inf') || bare === '-nan' || bare === 'nanq' || bare === 'nans') {
+      return this.error(start, `expected ${what} (a finite number), found '${tok}' (NaN and infinite values are not accepted)`);
+    }
+    return this.error(start, `expected ${what} (a number), found '${tok}'`);
+  }
+
+  /**
+   * Parse an unsigned decimal integer token (leading '+' allowed). Throws with `what` when
+   * the token is not one or exceeds 2^31-1.
+   */
+  uint(what: string): number {
+    const start = this.token(what);
+    const buf = this.buf;
+    let p = start;
+    if (buf[p] === 43) p++;
+    let v = 0;
+    let nd = 0;
+    let c: number;
+    while (p < this.pos && (c = buf[p]! - 48) >= 0 && c <= 9) {
+      v = v * 10 + c;
+      p++;
+      nd++;
+    }
+    if (nd === 0 || p !== this.pos) {
+      throw this.error(start, `expected ${what} (a non-negative integer), found '${latin1(buf, start, this.pos)}'`);
+    }
+    if (v > 2147483647) throw this.error(start, `${what} ${latin1(buf, start, this.pos)} is too large`);
+    return v;
+  }
+}
+
+/**
+ * Parse a whole string as a number with the same grammar and checks as LineCursor.float
+ * (used for values in XYZ comment lines and tests). `file`, `line` and `column` locate it
+ * for errors.
+ */
+export function parseNumberString(text: string, what: string, file: string, line: number, column: number): number {
+  const bytes = new Uint8Array(Buffer.from(text, 'latin1'));
+  const cur = new LineCursor(file);
+  cur.reset(bytes, 0, bytes.length, line);
+  cur.lineStart = 1 - column; // so that cur.column(0) === column
+  const v = cur.float(what);
+  cur.expectEnd(what);
+  return v;
+}

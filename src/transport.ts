@@ -1,0 +1,141 @@
+/**
+ * Transport relations between diffusion, viscosity and conductivity: finite-size correction of
+ * D, Nernst–Einstein conductivity, Stokes–Einstein radius, limiting molar conductivity of one
+ * ion and the Walden product. All functions are pure and take/return SI units unless a
+ * parameter name says otherwise (volumes in Å^3 and box lengths in Å, as elsewhere in sojourn).
+ */
+import { BOLTZMANN, ELEMENTARY_CHARGE, FARADAY, GAS_CONSTANT, CUBIC_ANGSTROM, ANGSTROM } from './units.js';
+
+/**
+ * ξ of the cubic periodic lattice in the Yeh–Hummer correction, 2.837297 (Yeh & Hummer,
+ * J. Phys. Chem. B 108, 15873 (2004); the lattice sum of Oseen tensors for a simple cubic
+ * lattice).
+ */
+export const YEH_HUMMER_XI = 2.837297;
+
+/**
+ * Finite-size correction of a self-diffusion coefficient in a cubic box of edge L:
+ * ΔD = k_B T ξ / (6 π η L), so that D(∞) = D(L) + ΔD (Yeh & Hummer, J. Phys. Chem. B 108,
+ * 15873 (2004)). Inputs: T in K, η in Pa s, L in Å; returns m^2/s.
+ */
+export function yehHummerCorrection(temperatureK: number, viscosityPaS: number, boxLengthA: number): number {
+  return (BOLTZMANN * temperatureK * YEH_HUMMER_XI) / (6 * Math.PI * viscosityPaS * boxLengthA * ANGSTROM);
+}
+
+/** One ionic species for the Nernst–Einstein sum. */
+export interface NernstEinsteinSpecies {
+  /** Number of ions of this species in the volume. */
+  count: number;
+  /** Charge number z (in units of e). */
+  charge: number;
+  /** Self-diffusion coefficient, m^2/s. */
+  diffusion: number;
+}
+
+/**
+ * Nernst–Einstein conductivity (ions moving independently):
+ * σ_NE = e² / (V k_B T) · Σ_i N_i z_i² D_i, in S/m, with V in Å^3 and D in m^2/s
+ * (the uncorrelated-ion limit of the Green–Kubo conductivity; e.g. Hansen & McDonald, Theory
+ * of Simple Liquids, 4th ed. (2013), chapter on ionic liquids).
+ */
+export function nernstEinsteinConductivity(species: NernstEinsteinSpecies[], volumeA3: number, temperatureK: number): number {
+  let sum = 0;
+  for (const s of species) sum += s.count * s.charge * s.charge * s.diffusion;
+  return (ELEMENTARY_CHARGE * ELEMENTARY_CHARGE * sum) / (volumeA3 * CUBIC_ANGSTROM * BOLTZMANN * temperatureK);
+}
+
+/**
+ * Standard uncertainty of σ_NE from independent uncertainties δD_i of the diffusion
+ * coefficients, by first-order (linear) propagation: δσ = e²/(V k_B T) · √(Σ_i (N_i z_i² δD_i)²)
+ * (JCGM 100:2008, Guide to the expression of uncertainty in measurement, eq. 10). S/m.
+ */
+export function nernstEinsteinUncertainty(
+  species: Array<NernstEinsteinSpecies & { diffusionError: number }>,
+  volumeA3: number,
+  temperatureK: number,
+): number {
+  let sq = 0;
+  for (const s of species) {
+    const t = s.count * s.charge * s.charge * s.diffusionError;
+    sq += t * t;
+  }
+  return (ELEMENTARY_CHARGE * ELEMENTARY_CHARGE * Math.sqrt(sq)) / (volumeA3 * CUBIC_ANGSTROM * BOLTZMANN * temperatureK);
+}
+
+/** Hydrodynamic boundary condition of the Stokes drag: stick (c = 6) or slip (c = 4). */
+export type Boundary = 'stick' | 'slip';
+
+/**
+ * Drag coefficient c in F = c π η r v: 6 for stick, 4 for slip (Stokes, Trans. Camb. Phil. Soc. 9, 8
+ * (1851) for stick; the slip value for a sphere is Basset's (1888); see Happel & Brenner, Low
+ * Reynolds Number Hydrodynamics (1965) — references from memory).
+ */
+export function stokesFactor(boundary: Boundary): number {
+  return boundary === 'stick' ? 6 : 4;
+}
+
+/**
+ * Stokes–Einstein hydrodynamic radius r = k_B T / (c π η D), c = 6 (stick) or 4 (slip)
+ * (Einstein, Ann. Phys. 17, 549 (1905)). D in m^2/s, η in Pa s, T in K; returns m.
+ */
+export function stokesEinsteinRadius(diffusion: number, viscosity: number, temperatureK: number, boundary: Boundary): number {
+  return (BOLTZMANN * temperatureK) / (stokesFactor(boundary) * Math.PI * viscosity * diffusion);
+}
+
+/**
+ * Stokes–Einstein diffusion coefficient D = k_B T / (c π η r), c = 6 (stick) or 4 (slip)
+ * (Einstein, Ann. Phys. 17, 549 (1905)). r in m, η in Pa s, T in K; returns m^2/s.
+ */
+export function stokesEinsteinDiffusion(radiusM: number, viscosity: number, temperatureK: number, boundary: Boundary): number {
+  return (BOLTZMANN * temperatureK) / (stokesFactor(boundary) * Math.PI * viscosity * radiusM);
+}
+
+/**
+ * Limiting molar conductivity of one ion from its diffusion coefficient (Nernst–Einstein):
+ * λ = z² F² D / (R T), in S m^2/mol (Robinson & Stokes, Electrolyte Solutions, 2nd ed. (1959)). D in m^2/s, T in K.
+ */
+export function limitingMolarConductivity(charge: number, diffusion: number, temperatureK: number): number {
+  return (charge * charge * FARADAY * FARADAY * diffusion) / (GAS_CONSTANT * temperatureK);
+}
+
+/**
+ * Walden product Λ η (Walden, Z. Phys. Chem. 55, 207 (1906), from memory): molar conductivity in S m^2/mol
+ * times viscosity in Pa s; returns S m^2 Pa s / mol.
+ */
+export function waldenProduct(molarConductivity: number, viscosity: number): number {
+  return molarConductivity * viscosity;
+}
+
+/**
+ * 1 S m^2 Pa s / mol expressed in the conventional Walden unit S cm^2 mol^-1 P:
+ * 1 m^2 = 10^4 cm^2 and 1 Pa s = 10 P (1 P = 0.1 Pa s, CGS definition), so the factor is 10^5.
+ */
+export const WALDEN_SI_TO_CONVENTIONAL = 1e5;
+
+/** Walden product from SI (S m^2 Pa s / mol) into S cm^2 mol^-1 P: multiply by 10^5. */
+export function waldenToConventional(waldenSI: number): number {
+  return waldenSI * WALDEN_SI_TO_CONVENTIONAL;
+}
+
+/** One factor x^p of a product, with its standard uncertainty (null = exact). */
+export interface ProductTerm {
+  value: number;
+  uncertainty: number | null;
+  /** Exponent p (default 1; −1 for a divisor). */
+  power?: number;
+}
+
+/**
+ * Relative standard uncertainty of a product of independent factors Π x_i^p_i, to first order:
+ * u_r = √(Σ_i (p_i u(x_i)/x_i)²) (JCGM 100:2008, GUM, eq. 12). Multiply by |product| for the
+ * absolute uncertainty. Exact factors (uncertainty null or 0) contribute nothing.
+ */
+export function relativeErrorProduct(terms: readonly ProductTerm[]): number {
+  let sq = 0;
+  for (const t of terms) {
+    if (t.uncertainty === null || t.uncertainty === 0) continue;
+    const r = ((t.power ?? 1) * t.uncertainty) / t.value;
+    sq += r * r;
+  }
+  return Math.sqrt(sq);
+}

@@ -1,0 +1,40 @@
+import { describe, expect, it } from 'vitest';
+import { mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { formatValue, formatTable, toJson, writeFileAtomic, refuseOverwritingInputs, toCsv } from '../src/output.js';
+import { UsageError } from '../src/errors.js';
+
+describe('formatting values with uncertainties', () => {
+  it('rounds the uncertainty to two significant figures and the value to match', () => {
+    // Convention: JCGM 100:2008 (GUM) §7.2.6 — uncertainty to at most two significant digits.
+    expect(formatValue(2.34567, 0.01234)).toBe('2.346 ± 0.012');
+    expect(formatValue(1234.5, 56)).toBe('1235 ± 56');
+    expect(formatValue(2.1e-9, 0.13e-9)).toBe('(2.10 ± 0.13)e-9');
+    expect(formatValue(3.0, null)).toBe('3');
+  });
+  it('aligns tables and writes CSV', () => {
+    const t = formatTable(['a', 'value'], [['x', '1'], ['longer', '22']]).split('\n');
+    expect(t[0]).toBe('a       value');
+    expect(t[3]).toBe('longer     22');
+    expect(toCsv(['r', 'g'], [[1, 2], [0.5, NaN]])).toBe('r,g\n1,0.5\n2,\n');
+  });
+  it('serialises typed arrays and non-finite numbers', () => {
+    expect(toJson({ a: Float64Array.from([1, 2]), b: NaN }, 0)).toBe('{"a":[1,2],"b":null}');
+  });
+});
+
+describe('atomic writes', () => {
+  it('leaves only the finished file and refuses to overwrite an input', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'sojourn-out-'));
+    const target = join(dir, 'x.json');
+    await writeFileAtomic(target, 'first');
+    await writeFileAtomic(target, 'second');
+    expect(readFileSync(target, 'utf8')).toBe('second');
+    expect(readdirSync(dir)).toEqual(['x.json']);
+    const input = join(dir, 'in.xyz');
+    writeFileSync(input, '1\n\nH 0 0 0\n');
+    expect(() => refuseOverwritingInputs(input, [input])).toThrow(UsageError);
+    expect(() => refuseOverwritingInputs(join(dir, 'other'), [input])).not.toThrow();
+  });
+});

@@ -1,0 +1,219 @@
+/**
+ * Transport relations (src/transport.ts) checked against handbook tables, closed forms and
+ * hand computations done outside the code.
+ */
+import { describe, it, expect } from 'vitest';
+import {
+  YEH_HUMMER_XI,
+  yehHummerCorrection,
+  nernstEinsteinConductivity,
+  nernstEinsteinUncertainty,
+  stokesEinsteinRadius,
+  stokesEinsteinDiffusion,
+  stokesFactor,
+  limitingMolarConductivity,
+  waldenProduct,
+  waldenToConventional,
+  relativeErrorProduct,
+} from '../src/transport.js';
+import { AVOGADRO } from '../src/units.js';
+import { Random } from '../src/random.js';
+
+const T25 = 298.15; // 25 °C in K (ITS-90 definition of 0 °C = 273.15 K)
+
+/** Relative difference |a − b| / |b|. */
+const rel = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
+
+describe('limitingMolarConductivity (Nernst–Einstein for one ion)', () => {
+  // CRC Handbook of Chemistry and Physics, "Ionic conductivity and diffusion at infinite dilution"
+  // (P. Vanýsek), aqueous, 25 °C: λ in 10^-4 S m^2/mol (= S cm^2/mol), D in 10^-9 m^2/s.
+  // K+, Li+ and Ca2+ rows verified against a copy of the table; Na+ and Cl- rows from memory.
+  const rows: Array<{ ion: string; z: number; D: number; lambdaPerCharge: number; source: string }> = [
+    { ion: 'K+', z: 1, D: 1.957, lambdaPerCharge: 73.48, source: 'CRC table (checked)' },
+    { ion: 'Li+', z: 1, D: 1.029, lambdaPerCharge: 38.66, source: 'CRC table (checked)' },
+    { ion: 'Na+', z: 1, D: 1.334, lambdaPerCharge: 50.08, source: 'CRC table, from memory' },
+    { ion: 'Cl-', z: -1, D: 2.032, lambdaPerCharge: 76.31, source: 'CRC table, from memory' },
+    // The table lists 1/2 Ca2+ (per unit charge); the molar λ of Ca2+ is twice that.
+    { ion: 'Ca2+', z: 2, D: 0.792, lambdaPerCharge: 59.47, source: 'CRC table (checked)' },
+  ];
+  for (const r of rows) {
+    it(`${r.ion}: D° → λ° matches the handbook (${r.source})`, () => {
+      const lambda = limitingMolarConductivity(r.z, r.D * 1e-9, T25); // S m^2/mol
+      const expected = Math.abs(r.z) * r.lambdaPerCharge * 1e-4; // molar λ, S m^2/mol
+      // Tolerance: both columns are rounded to the printed digits, so the relative half-step
+      // of D (0.0005/D) plus that of λ (half of the last printed digit / λ) bounds the mismatch.
+      // Every row here prints D to 0.001 and λ to 0.01.
+      const tol = 0.0005 / r.D + 0.005 / r.lambdaPerCharge;
+      expect(rel(lambda, expected)).toBeLessThan(tol);
+    });
+  }
+});
+
+describe('nernstEinsteinConductivity', () => {
+  it('1 mol/m^3 KCl at infinite dilution gives κ = c (λ_K + λ_Cl) from the handbook', () => {
+    // One K+ and one Cl- in V = 1/(N_A · 1 mol/m^3) m^3 is c = 1 mol/m^3 (= 1 mmol/L).
+    // Kohlrausch's independent migration: κ = c (λ°_K + λ°_Cl) = 1 × (73.48 + 76.31)e-4 S/m
+    // = 0.014979 S/m (CRC "Ionic conductivity and diffusion at infinite dilution"; Cl- row from memory).
+    const volumeA3 = (1 / AVOGADRO) * 1e30;
+    const sigma = nernstEinsteinConductivity(
+      [
+        { count: 1, charge: 1, diffusion: 1.957e-9 },
+        { count: 1, charge: -1, diffusion: 2.032e-9 },
+      ],
+      volumeA3,
+      T25,
+    );
+    // Tolerance: table rounding, 0.0005/1.957 + 0.0005/2.032 + 0.005/73.48 ≈ 5.6e-4 relative (bound).
+    expect(rel(sigma, (73.48 + 76.31) * 1e-4)).toBeLessThan(5.6e-4);
+  });
+
+  it('a 2:1 salt (CaCl2) weighs the charge squared', () => {
+    // c(CaCl2) = 1 mol/m^3: κ = c (2·59.47 + 2·76.31)e-4 S/m (CRC table: 1/2 Ca2+ 59.47, D 0.792;
+    // Cl- 76.31, D 2.032 from memory).
+    const volumeA3 = (1 / AVOGADRO) * 1e30;
+    const sigma = nernstEinsteinConductivity(
+      [
+        { count: 1, charge: 2, diffusion: 0.792e-9 },
+        { count: 2, charge: -1, diffusion: 2.032e-9 },
+      ],
+      volumeA3,
+      T25,
+    );
+    // Tolerance: table rounding of D for both ions (0.0005/0.792 + 0.0005/2.032) ≈ 8.8e-4 relative.
+    expect(rel(sigma, (2 * 59.47 + 2 * 76.31) * 1e-4)).toBeLessThan(8.8e-4);
+  });
+
+  it('uncertainty of a single species is σ · δD/D (closed form of linear propagation)', () => {
+    // One species: σ ∝ D, so δσ/σ = δD/D exactly (JCGM 100:2008 eq. 10 with one input).
+    const sp = { count: 10, charge: 1, diffusion: 1.5e-9, diffusionError: 0.06e-9 };
+    const s = nernstEinsteinConductivity([sp], 30000, 300);
+    const u = nernstEinsteinUncertainty([sp], 30000, 300);
+    // Tolerance: floating-point rounding only.
+    expect(rel(u / s, 0.04)).toBeLessThan(1e-12);
+  });
+
+  it('uncertainty of two species agrees with a Monte-Carlo propagation (JCGM 101:2008)', () => {
+    // GUM Supplement 1 (JCGM 101:2008): sample the inputs, take the SD of the output. σ is
+    // linear in the D_i, so the linear propagation is exact and only sampling noise remains.
+    const sp = [
+      { count: 20, charge: 1, diffusion: 1.3e-9, diffusionError: 0.1e-9 },
+      { count: 20, charge: -1, diffusion: 2.0e-9, diffusionError: 0.2e-9 },
+    ];
+    const V = 27000;
+    const u = nernstEinsteinUncertainty(sp, V, 300);
+    const rng = new Random(20240611);
+    const n = 40000;
+    let s1 = 0;
+    let s2 = 0;
+    for (let i = 0; i < n; i++) {
+      const s = nernstEinsteinConductivity(
+        sp.map((x) => ({ ...x, diffusion: x.diffusion + x.diffusionError * rng.normal() })),
+        V,
+        300,
+      );
+      s1 += s;
+      s2 += s * s;
+    }
+    const sd = Math.sqrt((s2 - (s1 * s1) / n) / (n - 1));
+    // Tolerance: the relative standard error of a sample SD is 1/√(2(n−1)) ≈ 0.35 %; allow 4×.
+    expect(rel(sd, u)).toBeLessThan(0.014);
+  });
+});
+
+describe('Stokes–Einstein', () => {
+  it('Li+ in water at 25 °C has a stick radius of about 2.38 Å, far above its crystal radius', () => {
+    // D(Li+) = 1.029e-9 m^2/s (CRC infinite-dilution table, checked); η(water, 25 °C, 0.1 MPa)
+    // = 0.8900 mPa s (IAPWS 2008 viscosity formulation, from memory: 890.0 μPa s).
+    // Hand computation: k_B T = 1.380649e-23 × 298.15 = 4.116405e-21 J;
+    // 6π η D = 6 × 3.141593 × 0.8900e-3 × 1.029e-9 = 1.726263e-11 → r = 2.38458e-10 m.
+    const r = stokesEinsteinRadius(1.029e-9, 0.89e-3, T25, 'stick');
+    // Tolerance: the hand computation was carried to 5 significant figures → 1e-4 relative.
+    expect(rel(r * 1e10, 2.38458)).toBeLessThan(1e-4);
+    // Shannon (Acta Cryst. A32, 751 (1976)) 6-coordinate Li+ radius 0.76 Å: r_H/r_c > 3.
+    expect(r * 1e10 / 0.76).toBeGreaterThan(3);
+  });
+
+  it('agrees with the Robinson–Stokes working formula r = 0.820 |z| / (λ° η) Å', () => {
+    // Robinson & Stokes, Electrolyte Solutions (1959): Stokes radius r = 0.820|z|/(λ° η) Å with
+    // λ° in S cm^2 mol^-1 and η in poise (from memory). For Na+: λ° = 50.08 (CRC, from memory),
+    // η = 0.008900 P. Route: D from λ via D = RTλ/(z²F²) is what the handbook itself uses, so take
+    // D° = 1.334e-9 m^2/s from the same table.
+    const r = stokesEinsteinRadius(1.334e-9, 0.89e-3, T25, 'stick') * 1e10;
+    const rRS = 0.82 / (50.08 * 0.0089);
+    // Tolerance: the constant 0.820 has 3 significant figures (±0.06 %) and D, λ are rounded
+    // (±0.05 %): allow 0.2 %.
+    expect(rel(r, rRS)).toBeLessThan(2e-3);
+  });
+
+  it('slip radius is 6/4 of the stick radius (Stokes vs Basset drag 6πηr vs 4πηr)', () => {
+    const stick = stokesEinsteinRadius(1e-9, 1e-3, 300, 'stick');
+    const slip = stokesEinsteinRadius(1e-9, 1e-3, 300, 'slip');
+    // Closed form: r_slip / r_stick = 6/4 (common practice, no source beyond the drag laws).
+    // Tolerance: floating-point rounding only.
+    expect(rel(slip / stick, 1.5)).toBeLessThan(1e-14);
+    expect(stokesFactor('slip')).toBe(4);
+  });
+
+  it('D from a radius reproduces the hand value for a 1 nm sphere in water', () => {
+    // k_B T/(6π η r) at 298.15 K, η = 0.89e-3 Pa s, r = 1e-9 m:
+    // 4.116405e-21 / (6π × 0.89e-3 × 1e-9) = 4.116405e-21 / 1.677610e-11 = 2.45374e-10 m^2/s.
+    const D = stokesEinsteinDiffusion(1e-9, 0.89e-3, T25, 'stick');
+    // Tolerance: hand computation carried to 6 significant figures → 2e-5 relative.
+    expect(rel(D, 2.45374e-10)).toBeLessThan(2e-5);
+  });
+});
+
+describe('yehHummerCorrection', () => {
+  it('matches a hand computation for water-like η in a 40 Å box', () => {
+    // ΔD = k_B T ξ / (6π η L), Yeh & Hummer, J. Phys. Chem. B 108, 15873 (2004), ξ = 2.837297.
+    // T = 300 K, η = 0.85e-3 Pa s, L = 40e-10 m:
+    // k_B T = 4.141947e-21 J; × ξ = 1.175202e-20; 6π η L = 6.408849e-11 → ΔD = 1.83370e-10 m^2/s.
+    const d = yehHummerCorrection(300, 0.85e-3, 40);
+    // Tolerance: 6-figure hand arithmetic → 3e-5 relative.
+    expect(rel(d, 1.8337e-10)).toBeLessThan(3e-5);
+    // ξ as printed in Yeh & Hummer (2004).
+    expect(YEH_HUMMER_XI).toBe(2.837297);
+  });
+});
+
+describe('Walden product', () => {
+  it('KCl at infinite dilution in water, 25 °C: Λ°η ≈ 1.33 S cm^2 mol^-1 P', () => {
+    // Λ°(KCl) = 73.48 + 76.31 = 149.79 S cm^2/mol (CRC; Cl- from memory), η = 0.8900 mPa s
+    // = 0.008900 P (IAPWS 2008, from memory): Λη = 149.79 × 0.0089 = 1.33313 S cm^2 mol^-1 P.
+    const w = waldenProduct(149.79e-4, 0.89e-3);
+    // Tolerance: hand product to 6 figures → 1e-5 relative.
+    expect(rel(waldenToConventional(w), 1.33313)).toBeLessThan(1e-5);
+  });
+});
+
+describe('relativeErrorProduct', () => {
+  it('first-order relative uncertainty of x·y^-1 matches Monte-Carlo (JCGM 101:2008)', () => {
+    const x = { value: 2, uncertainty: 0.02 };
+    const y = { value: 5, uncertainty: 0.1, power: -1 };
+    const ur = relativeErrorProduct([x, y]);
+    // Closed form (GUM eq. 12): √(0.01² + 0.02²) = 0.0223607.
+    // Tolerance: arithmetic rounding of the printed figures.
+    expect(rel(ur, 0.0223607)).toBeLessThan(2e-6);
+    const rng = new Random(77);
+    const n = 40000;
+    let s1 = 0;
+    let s2 = 0;
+    for (let i = 0; i < n; i++) {
+      const q = (x.value + x.uncertainty * rng.normal()) / (y.value + y.uncertainty * rng.normal());
+      s1 += q;
+      s2 += q * q;
+    }
+    const mean = s1 / n;
+    const sd = Math.sqrt((s2 - n * mean * mean) / (n - 1));
+    // Tolerance: sample-SD noise 1/√(2n) ≈ 0.35 % (×4) plus the second-order term ≈ u_r² ≈ 0.05 %.
+    expect(rel(sd / 0.4, ur)).toBeLessThan(0.015);
+  });
+
+  it('exact factors contribute nothing and powers scale the term', () => {
+    // r = k T /(c π η D): u_r(r) from u(D)/D = 3 % and η exact is 3 % (GUM eq. 12, p = −1).
+    // Tolerance: floating-point rounding only.
+    expect(rel(relativeErrorProduct([{ value: 1e-9, uncertainty: 3e-11, power: -1 }, { value: 1e-3, uncertainty: null }]), 0.03)).toBeLessThan(1e-12);
+    // x² with 1 % gives 2 % (GUM eq. 12 with p = 2).
+    expect(rel(relativeErrorProduct([{ value: 4, uncertainty: 0.04, power: 2 }]), 0.02)).toBeLessThan(1e-12);
+  });
+});
