@@ -1,4 +1,3 @@
-// CONTRIBUTOR NOTICE (temporary): before writing any code read /tmp/rules.txt — binding rules.
 /**
  * Error classes that decide the process exit status.
  * - InputError: the input file is malformed or unusable → exit 1, message names file:line:column.
