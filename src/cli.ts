@@ -5,6 +5,8 @@
  */
 import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
+import { isMainThread } from 'node:worker_threads';
+import { setInvocation } from './commands/parallel.js';
 import { Command, CommanderError } from 'commander';
 import { COMMANDS } from './commands/index.js';
 import { exitStatusFor, InputError, UsageError, AnalysisError } from './errors.js';
@@ -25,6 +27,7 @@ export function buildProgram(): Command {
 /** Run the CLI on argv; returns the exit status. */
 export async function main(argv: string[]): Promise<number> {
   const program = buildProgram();
+  setInvocation(argv.slice(2));
   try {
     await program.parseAsync(argv);
     return 0;
@@ -43,7 +46,7 @@ export async function main(argv: string[]): Promise<number> {
 }
 
 function invokedDirectly(): boolean {
-  if (!process.argv[1]) return false;
+  if (!isMainThread || !process.argv[1]) return false;
   try {
     return realpathSync(process.argv[1]) === fileURLToPath(import.meta.url);
   } catch {

@@ -10,7 +10,10 @@ import { runPasses, parseFrameRange, type RunOutput } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
-import { envelope, toJson, type InputRecord } from '../output.js';
+import { envelope, toJson, writeFileAtomic, refuseOverwritingInputs, type InputRecord } from '../output.js';
+import { encodePartial, encodeTopology, type PartialFile } from '../partials.js';
+import { VERSION } from '../version.js';
+import { currentInvocation, mergeSource, runInWorkers, workerCapture } from './parallel.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
 
 /** Options every trajectory command accepts. */
@@ -22,6 +25,8 @@ export interface TrajectoryOptions {
   frameInterval?: string;
   json?: boolean;
   quiet?: boolean;
+  partialOut?: string;
+  threads?: string;
 }
 
 /** Add --json and --quiet. */
@@ -38,7 +43,9 @@ export function addTrajectoryOptions(cmd: Command): Command {
     .option('--strict', 'treat a truncated last frame as an error instead of a warning')
     .option('--box <lengths>', 'periodic cell for files that carry none: "a,b,c" (Å) or "a,b,c,alpha,beta,gamma" (Å, degrees); units allowed, e.g. "3nm,3nm,3nm"')
     .option('--frames <from:to[:stride]>', 'use frames FROM..TO-1 (0-based) with a stride')
-    .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs');
+    .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs')
+    .option('--partial-out <file>', 'also write this run\'s partial results (for `sojourn merge` of jobs over frame ranges)')
+    .option('--threads <n>', 'worker threads that split the frames (default: number of cores; 1 = no workers)');
   return addOutputOptions(cmd);
 }
 
@@ -89,18 +96,55 @@ export async function runOnTrajectory(
   const frameInterval = parsePositiveTime(opts.frameInterval, '--frame-interval');
   const cell = opts.box ? parseBox(opts.box) : null;
   const range = opts.frames ? parseFrameRange(opts.frames) : undefined;
-  const input = await openTrajectory(file, { format: opts.format, strict: !!opts.strict, warnings });
-  const progress = progressFor(file, opts.quiet);
-  let out: RunOutput;
-  try {
-    out = await runPasses(input, passes, { frameInterval, cell, range, warnings, onFrame: progress.tick });
-  } finally {
-    progress.stop();
+  if (opts.partialOut) refuseOverwritingInputs(opts.partialOut, [file]);
+  const merged = mergeSource();
+  if (merged) return merged(file, passes, warnings);
+  const threads = opts.threads === undefined ? null : Number(opts.threads);
+  if (threads !== null && !(Number.isInteger(threads) && threads >= 1)) throw new UsageError(`--threads must be a whole number ≥ 1, got "${opts.threads}"`);
+  let run: TrajectoryRun;
+  const parallel = workerCapture() === null ? await runInWorkers(file, opts, passes, warnings, threads) : null;
+  if (parallel) run = parallel;
+  else {
+    const input = await openTrajectory(file, { format: opts.format, strict: !!opts.strict, warnings });
+    const progress = progressFor(file, opts.quiet);
+    let out: RunOutput;
+    try {
+      out = await runPasses(input, passes, { frameInterval, cell, range, warnings, onFrame: progress.tick });
+    } finally {
+      progress.stop();
+    }
+    run = {
+      ...out,
+      input: { path: file, sha256: input.sha256(), bytes: input.rawBytes(), format: input.format, frames: input.framesRead() },
+    };
   }
-  return {
-    ...out,
-    input: { path: file, sha256: input.sha256(), bytes: input.rawBytes(), format: input.format, frames: input.framesRead() },
+  const capture = workerCapture();
+  if (capture) capture(run, passes);
+  if (opts.partialOut) await writePartialFile(opts.partialOut, run, passes, warnings);
+  return run;
+}
+
+/** Write the partial results of a run (see src/partials.ts) atomically. */
+export async function writePartialFile(target: string, run: TrajectoryRun, passes: Pass[], warnings: Warnings): Promise<void> {
+  const inv = currentInvocation();
+  const doc: PartialFile = {
+    tool: 'sojourn',
+    kind: 'partial',
+    version: VERSION,
+    argv: inv.args,
+    command: inv.command,
+    passes: passes.map((p) => p.name),
+    input: { path: run.input.path, sha256: run.input.sha256, bytes: run.input.bytes, format: run.input.format },
+    firstIndex: run.firstIndex,
+    lastIndex: run.lastIndex,
+    framesUsed: run.framesUsed,
+    frameInterval: run.ctx.frameInterval,
+    firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
+    topology: encodeTopology(run.ctx.topology),
+    partials: run.partials.map(encodePartial),
+    warnings: [...warnings],
   };
+  await writeFileAtomic(target, JSON.stringify(doc));
 }
 
 /** Print warnings to stderr (unless quiet). */

@@ -4,7 +4,9 @@
  */
 import type { Command } from 'commander';
 import { register as inspect } from './inspect.js';
+import { register as merge } from './merge.js';
 
 export const COMMANDS: Array<(program: Command) => void> = [
   inspect,
+  merge,
 ];

@@ -1,0 +1,270 @@
+/**
+ * Splitting one command's frames across worker threads, and merging partial results written by
+ * separate jobs. Both work the same way: the command is run again (in a worker, or in the merge
+ * step) with the same arguments, and `runOnTrajectory` (src/commands/common.ts) either hands its
+ * partials back to the parent or, when merging, takes them from the partial files instead of
+ * reading the trajectory. Passes merge with their own associative `merge`, in frame order.
+ */
+import { Worker, isMainThread, parentPort } from 'node:worker_threads';
+import { availableParallelism } from 'node:os';
+import { readFile } from 'node:fs/promises';
+import { fileURLToPath } from 'node:url';
+import { existsSync } from 'node:fs';
+import type { Pass, Warnings } from '../types.js';
+import { UsageError, InputError, AnalysisError } from '../errors.js';
+import { decodePartial, decodeTopology, type PartialFile } from '../partials.js';
+import { countFrames } from '../../readers/scan.js';
+import type { TrajectoryOptions, TrajectoryRun } from './common.js';
+
+let invocation: { command: string; args: string[] } = { command: '', args: [] };
+
+/** Record the command line being run (argv without node and script). */
+export function setInvocation(args: string[]): void {
+  invocation = { command: args[0] ?? '', args: args.slice(1) };
+}
+
+/** The command line being run: command name and its arguments. */
+export function currentInvocation(): { command: string; args: string[] } {
+  return invocation;
+}
+
+type MergeFn = (file: string, passes: Pass[], warnings: Warnings) => Promise<TrajectoryRun>;
+let merger: MergeFn | null = null;
+
+/** When set, runOnTrajectory takes partials from files instead of reading the trajectory. */
+export function mergeSource(): MergeFn | null {
+  return merger;
+}
+
+type Capture = (run: TrajectoryRun, passes: Pass[]) => void;
+let capture: Capture | null = null;
+
+/** In a worker: the function that hands partials to the parent (then the command stops). */
+export function workerCapture(): Capture | null {
+  return capture;
+}
+
+/** Thrown inside a worker after its partials were handed over, to end the command early. */
+export class PartialsHandedOver extends Error {
+  constructor() {
+    super('partials handed to the parent thread');
+  }
+}
+
+/** Options that must not be passed on to workers or merge re-runs (they are set there). */
+const STRIP_WITH_VALUE = new Set(['--frames', '--threads', '--partial-out']);
+
+/** Remove --frames/--threads/--partial-out (with their values) from an argument list. */
+export function stripRangeOptions(args: string[]): string[] {
+  const out: string[] = [];
+  for (let i = 0; i < args.length; i++) {
+    const a = args[i];
+    const eq = a.indexOf('=');
+    const key = eq > 0 ? a.slice(0, eq) : a;
+    if (STRIP_WITH_VALUE.has(key)) {
+      if (eq < 0) i++;
+      continue;
+    }
+    out.push(a);
+  }
+  return out;
+}
+
+/**
+ * Merge the partial files of jobs that analysed frame ranges of one trajectory. Files are put in
+ * frame order; overlapping ranges are refused, gaps are warned about.
+ */
+export async function loadPartialFiles(paths: string[]): Promise<PartialFile[]> {
+  const docs: PartialFile[] = [];
+  for (const p of paths) {
+    let doc: PartialFile;
+    try {
+      doc = JSON.parse(await readFile(p, 'utf8')) as PartialFile;
+    } catch (e) {
+      throw new InputError(p, null, null, `not a readable partial-result file (${(e as Error).message})`);
+    }
+    if (doc?.tool !== 'sojourn' || doc.kind !== 'partial' || !Array.isArray(doc.partials)) {
+      throw new InputError(p, null, null, 'not a sojourn partial-result file (written with --partial-out)');
+    }
+    docs.push(doc);
+  }
+  if (docs.length === 0) throw new UsageError('merge needs at least one partial-result file');
+  const first = docs[0];
+  for (const [i, d] of docs.entries()) {
+    if (d.command !== first.command || JSON.stringify(stripRangeOptions(d.argv)) !== JSON.stringify(stripRangeOptions(first.argv))) {
+      throw new UsageError(`${paths[i]} was written by "${[d.command, ...d.argv].join(' ')}", not the same command and options as ${paths[0]}`);
+    }
+    if (d.input.sha256 !== first.input.sha256) {
+      throw new UsageError(`${paths[i]} comes from a different input file (SHA-256 differs from ${paths[0]})`);
+    }
+  }
+  docs.sort((a, b) => a.firstIndex - b.firstIndex);
+  return docs;
+}
+
+/** Install the merge source for a set of partial files (used by `sojourn merge`). */
+export function useMergeSource(docs: PartialFile[]): void {
+  merger = async (file, passes, warnings) => {
+    const names = passes.map((p) => p.name);
+    for (const d of docs) {
+      if (JSON.stringify(d.passes) !== JSON.stringify(names)) {
+        throw new UsageError(`partial file passes [${d.passes.join(', ')}] do not match this command's [${names.join(', ')}]`);
+      }
+    }
+    for (let i = 1; i < docs.length; i++) {
+      if (docs[i].firstIndex <= docs[i - 1].lastIndex) {
+        throw new UsageError(`partial files overlap: frames ${docs[i - 1].firstIndex}–${docs[i - 1].lastIndex} and ${docs[i].firstIndex}–${docs[i].lastIndex}`);
+      }
+    }
+    for (const d of docs) warnings.push(...d.warnings);
+    const parts = docs.map((d) => d.partials.map(decodePartial));
+    let merged = parts[0];
+    for (let i = 1; i < parts.length; i++) merged = merged.map((m, k) => passes[k].merge(m, parts[i][k]));
+    const d0 = docs[0];
+    return {
+      ctx: {
+        topology: decodeTopology(d0.topology),
+        firstCell: d0.firstCell ? Float64Array.from(d0.firstCell) : null,
+        frameInterval: d0.frameInterval,
+        warnings,
+      },
+      partials: merged,
+      framesUsed: docs.reduce((s, d) => s + d.framesUsed, 0),
+      firstIndex: d0.firstIndex,
+      lastIndex: docs[docs.length - 1].lastIndex,
+      input: { path: file, sha256: d0.input.sha256, bytes: d0.input.bytes, format: d0.input.format, frames: null },
+    };
+  };
+}
+
+/** What a worker sends back. */
+interface WorkerReply {
+  ok: boolean;
+  error?: { name: string; message: string };
+  partials?: unknown[];
+  firstIndex?: number;
+  lastIndex?: number;
+  framesUsed?: number;
+  frameInterval?: number | null;
+  firstCell?: number[] | null;
+  topology?: unknown;
+  input?: TrajectoryRun['input'];
+  warnings?: string[];
+}
+
+/** Path of the compiled worker entry (workers need JavaScript; absent when running from sources). */
+function workerScript(): string | null {
+  const here = fileURLToPath(import.meta.url);
+  if (!here.endsWith('.js')) return null;
+  const p = fileURLToPath(new URL('../worker.js', import.meta.url));
+  return existsSync(p) ? p : null;
+}
+
+/**
+ * Run the current command on `threads` workers, each on a contiguous share of the frames, and
+ * merge their partials in frame order. Returns null when workers are not used: one thread, stdin,
+ * fewer than 2 frames per worker, or running from TypeScript sources.
+ */
+export async function runInWorkers(
+  file: string,
+  opts: TrajectoryOptions,
+  passes: Pass[],
+  warnings: Warnings,
+  threads: number | null,
+): Promise<TrajectoryRun | null> {
+  const n = threads ?? availableParallelism();
+  if (n <= 1 || file === '-' || !isMainThread) return null;
+  const script = workerScript();
+  if (!script) return null;
+  const range = opts.frames;
+  const total = await countFrames(file, opts.format);
+  // Frame range requested by the user, clipped to the file.
+  let from = 0, to = total, stride = 1;
+  if (range) {
+    const m = /^(\d*):(\d*)(?::(\d+))?$/.exec(range.trim());
+    if (m) {
+      from = m[1] === '' ? 0 : Number(m[1]);
+      to = m[2] === '' ? total : Math.min(total, Number(m[2]));
+      stride = m[3] === undefined ? 1 : Number(m[3]);
+    }
+  }
+  const used = Math.max(0, Math.ceil((to - from) / stride));
+  if (used < 2 * n) return null;
+  const per = Math.ceil(used / n);
+  const args = stripRangeOptions(invocation.args);
+  const jobs: Promise<WorkerReply>[] = [];
+  for (let w = 0; w < n; w++) {
+    const a = from + w * per * stride;
+    const b = Math.min(to, from + (w + 1) * per * stride);
+    if (a >= b) break;
+    const argv = [invocation.command, ...args, '--frames', `${a}:${b}:${stride}`, '--threads', '1', '--quiet'];
+    jobs.push(
+      new Promise<WorkerReply>((resolve, reject) => {
+        const worker = new Worker(script, { workerData: { argv } });
+        worker.once('message', (m: WorkerReply) => resolve(m));
+        worker.once('error', reject);
+        worker.once('exit', (code) => {
+          if (code !== 0) reject(new Error(`worker exited with status ${code}`));
+        });
+      }),
+    );
+  }
+  const replies = await Promise.all(jobs);
+  for (const r of replies) {
+    if (!r.ok) {
+      const e = r.error!;
+      if (e.name === 'UsageError') throw new UsageError(e.message);
+      if (e.name === 'InputError' || e.name === 'AnalysisError') throw new AnalysisError(e.message);
+      throw new Error(e.message);
+    }
+  }
+  const seen = new Set<string>();
+  for (const r of replies) for (const w of r.warnings ?? []) if (!seen.has(w)) { seen.add(w); warnings.push(w); }
+  // Partials arrive by structured clone (typed arrays and Maps survive it as they are).
+  let merged = replies[0].partials!;
+  for (let i = 1; i < replies.length; i++) {
+    const next = replies[i].partials!;
+    merged = merged.map((m, k) => passes[k].merge(m, next[k]));
+  }
+  const r0 = replies[0];
+  return {
+    ctx: {
+      topology: r0.topology as TrajectoryRun['ctx']['topology'],
+      firstCell: r0.firstCell ? Float64Array.from(r0.firstCell) : null,
+      frameInterval: r0.frameInterval ?? null,
+      warnings,
+    },
+    partials: merged,
+    framesUsed: replies.reduce((s, r) => s + (r.framesUsed ?? 0), 0),
+    firstIndex: r0.firstIndex!,
+    lastIndex: replies[replies.length - 1].lastIndex!,
+    input: { ...r0.input!, frames: total },
+  };
+}
+
+/** Worker side: install the capture that posts partials to the parent. */
+export function installWorkerCapture(): void {
+  capture = (run) => {
+    const reply: WorkerReply = {
+      ok: true,
+      partials: run.partials,
+      firstIndex: run.firstIndex,
+      lastIndex: run.lastIndex,
+      framesUsed: run.framesUsed,
+      frameInterval: run.ctx.frameInterval,
+      firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
+      topology: run.ctx.topology,
+      input: run.input,
+      warnings: [...run.ctx.warnings],
+    };
+    parentPort!.postMessage(reply);
+    throw new PartialsHandedOver();
+  };
+}
+
+/** Worker side: report a failure to the parent. */
+export function replyWorkerError(err: unknown): void {
+  const e = err instanceof Error ? err : new Error(String(err));
+  parentPort!.postMessage({ ok: false, error: { name: e.name, message: e.message } } satisfies WorkerReply);
+}
+
