@@ -2,7 +2,7 @@
  * The pass runner: reads a trajectory once and feeds every frame to every pass, so that all
  * analyses of a command share one read of the file.
  */
-import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Warnings } from './types.js';
+import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Topology, Warnings } from './types.js';
 import { InputError, UsageError } from './errors.js';
 
 /** A source of frames, as produced by readers/index.ts openTrajectory. */
@@ -25,6 +25,8 @@ export interface RunOptions {
   cell: CellMatrix | null;
   range?: FrameRange;
   warnings: Warnings;
+  /** Masses (g/mol) by atom label that replace the element-based ones (e.g. united atoms). */
+  masses?: Map<string, number>;
   /** Called after each used frame with the number of frames used so far. */
   onFrame?: (used: number) => void;
 }
@@ -84,6 +86,7 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
       prevTime = f.time;
     }
     if (accs === null) {
+      if (opts.masses) applyMasses(f.topology, opts.masses, source.path);
       ctx = {
         topology: f.topology,
         firstCell: f.cell ? Float64Array.from(f.cell) : null,
@@ -113,6 +116,23 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
   }
   void firstTime;
   return { ctx, partials: accs.map((a) => a.partial()), framesUsed: used, firstIndex, lastIndex };
+}
+
+/**
+ * Replace the masses of atoms whose label is in `masses` (g/mol). A label that matches no atom is a
+ * usage error, so a typo cannot silently leave the element mass in place.
+ */
+export function applyMasses(topology: Topology, masses: Map<string, number>, path: string): void {
+  for (const [label, m] of masses) {
+    let hit = false;
+    for (let i = 0; i < topology.atoms; i++) {
+      if (topology.labels[i] === label) {
+        topology.masses[i] = m;
+        hit = true;
+      }
+    }
+    if (!hit) throw new UsageError(`--masses: no atom labelled "${label}" in ${path}`);
+  }
 }
 
 /** Finish every pass from its (merged) partial. */

@@ -27,6 +27,7 @@ export interface TrajectoryOptions {
   quiet?: boolean;
   partialOut?: string;
   threads?: string;
+  masses?: string;
 }
 
 /** Add --json and --quiet. */
@@ -44,6 +45,7 @@ export function addTrajectoryOptions(cmd: Command): Command {
     .option('--box <lengths>', 'periodic cell for files that carry none: "a,b,c" (Å) or "a,b,c,alpha,beta,gamma" (Å, degrees); units allowed, e.g. "3nm,3nm,3nm"')
     .option('--frames <from:to[:stride]>', 'use frames FROM..TO-1 (0-based) with a stride')
     .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs')
+    .option('--masses <pairs>', 'masses by atom label in g/mol, for labels that are not element symbols, e.g. "Sv=18,CH3=15.035"')
     .option('--partial-out <file>', 'also write this run\'s partial results (for `sojourn merge` of jobs over frame ranges)')
     .option('--threads <n>', 'worker threads that split the frames (default: number of cores; 1 = no workers)');
   return addOutputOptions(cmd);
@@ -60,6 +62,19 @@ export function parseBox(text: string): CellMatrix {
   const cell = cellFromParameters(len[0], len[1], len[2], ang[0], ang[1], ang[2]);
   if (!cell) throw new UsageError(`--box: angles ${ang.join(', ')} do not make a cell`);
   return cell;
+}
+
+/** Parse --masses "A=18,B=15.0" into a map of label → g/mol. */
+export function parseMasses(text: string | undefined): Map<string, number> | undefined {
+  if (text === undefined) return undefined;
+  const m = new Map<string, number>();
+  for (const part of text.split(',')) {
+    const i = part.lastIndexOf('=');
+    const value = Number(part.slice(i + 1));
+    if (i <= 0 || !(value > 0)) throw new UsageError(`--masses: expected LABEL=MASS pairs (g/mol) separated by commas, got "${part}"`);
+    m.set(part.slice(0, i).trim(), value);
+  }
+  return m;
 }
 
 /** Parse an optional positive time option (ps). */
@@ -109,7 +124,7 @@ export async function runOnTrajectory(
     const progress = progressFor(file, opts.quiet);
     let out: RunOutput;
     try {
-      out = await runPasses(input, passes, { frameInterval, cell, range, warnings, onFrame: progress.tick });
+      out = await runPasses(input, passes, { frameInterval, cell, range, warnings, masses: parseMasses(opts.masses), onFrame: progress.tick });
     } finally {
       progress.stop();
     }
