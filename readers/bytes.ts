@@ -247,15 +247,12 @@ export class ByteSource {
           if (strm.avail_in === 0) break; // needs more input
           throw this.corrupted(`inflate made no progress near compressed byte ${consumedBefore + strm.next_in}`);
         }
-        if (strm.next_out > 0) {
-          yield this.emit(strm.output, strm.next_out);
-          strm.output = new Uint8Array(size);
-          strm.next_out = 0;
-          strm.avail_out = size;
-        }
+        // Output is handed out only when the buffer is full (above) or at the end (below), so
+        // that tiny input chunks do not produce tiny output chunks.
         consumedBefore += input.length;
         input = await this.nextRaw(raw);
       }
+      if (strm.next_out > 0) yield this.emit(strm.output, strm.next_out);
       if (!between && !padding) {
         throw new InputError(
           this.name,

@@ -5,7 +5,14 @@
  * generator `splitLines` pulls byte chunks, cuts them into lines with Uint8Array.indexOf(10)
  * and calls the handler for each line without creating strings; it yields only when the
  * handler reports a completed item (a frame), so the async machinery costs one await per
- * chunk and one yield per frame, never one per line.
+ * chunk and one yield per frame, never one per line. The per-chunk line loop is a plain
+ * synchronous function (runLines), so V8 optimises it like any hot loop.
+ *
+ * A handler may also offer `bulk`, a fused fast path that parses many well-formed lines in one
+ * pass over the bytes (the XYZ reader uses it for atom rows: finding the '\n' with indexOf and
+ * then scanning the same bytes again costs as much as the number parsing). Anything unusual
+ * makes bulk stop at that line, which then goes through `line` and its checks and messages, so
+ * both paths accept exactly the same input and give the same values.
  *
  * Lines: '\n' ends a line; a '\r' just before it is dropped (CRLF files read like LF files).
  * A last line without a final '\n' is still a line. Line numbers are 1-based and count lines
@@ -38,6 +45,22 @@ export interface LineHandler<T> {
    * May return one last item.
    */
   finish(lines: number, brokenLastLine: InputError | null): T | null;
+  /**
+   * Optional fast path over many lines at once (XYZ atom rows). `buf[pos]` starts a line and
+   * every line starting before `limit` ends with a '\n' before `limit`, so the handler may scan
+   * up to the next '\n' without bounds checks. Consume whole lines from `pos` and return the
+   * position after the last one consumed (return `pos` to decline, e.g. on anything unusual:
+   * that line then goes through `line`, which reports errors). Add the lines consumed to
+   * st.lineNo; after a line that completes an item, store it in st.item and return at once.
+   */
+  bulk?(buf: Uint8Array, pos: number, limit: number, st: LineState<T>): number;
+}
+
+/** Line counter and completed item shared between the driver and a handler's bulk path. */
+export interface LineState<T> {
+  /** Lines seen so far (1-based number of the last line handled). */
+  lineNo: number;
+  item: T | null;
 }
 
 const EMPTY = new Uint8Array(0);
@@ -55,9 +78,10 @@ export async function* splitLines<T>(
   handler: LineHandler<T>,
   onHandlerError?: (err: unknown) => Promise<void>,
 ): AsyncGenerator<T, void, undefined> {
+  const st: LineState<T> = { lineNo: 0, item: null };
+  const hasBulk = typeof handler.bulk === 'function';
   let carry: Uint8Array = EMPTY;
   let carryLen = 0;
-  let lineNo = 0;
   let closed = false;
   try {
     for (;;) {
@@ -66,36 +90,44 @@ export async function* splitLines<T>(
       const chunk = r.value;
       const n = chunk.length;
       let pos = 0;
-      let item: T | null;
       if (carryLen > 0) {
         const nl = chunk.indexOf(10);
         if (nl < 0) {
-          // Whole chunk belongs to the pending line.
+          // The whole chunk belongs to the pending line.
           carry = grow(carry, carryLen + n);
           carry.set(chunk, carryLen);
           carryLen += n;
           continue;
         }
-        carry = grow(carry, carryLen + nl);
-        carry.set(chunk.subarray(0, nl), carryLen);
-        let end = carryLen + nl;
+        carry = grow(carry, carryLen + nl + 1);
+        carry.set(chunk.subarray(0, nl + 1), carryLen);
+        const len = carryLen + nl + 1;
         carryLen = 0;
-        if (end > 0 && carry[end - 1] === 13) end--;
-        lineNo++;
-        item = callLine(handler, carry, 0, end, lineNo, onHandlerError);
-        if (item instanceof Promise) item = await item;
-        if (item !== null) yield item;
+        try {
+          runLines(handler, carry, 0, len, 0, st);
+        } catch (e) {
+          if (onHandlerError) await onHandlerError(e);
+          throw e;
+        }
+        if (st.item !== null) {
+          const item = st.item;
+          st.item = null;
+          yield item;
+        }
         pos = nl + 1;
       }
-      for (;;) {
-        const nl = chunk.indexOf(10, pos);
-        if (nl < 0) break;
-        const end = nl > pos && chunk[nl - 1] === 13 ? nl - 1 : nl;
-        lineNo++;
-        item = callLine(handler, chunk, pos, end, lineNo, onHandlerError);
-        if (item instanceof Promise) item = await item;
-        if (item !== null) yield item;
-        pos = nl + 1;
+      const limit = hasBulk ? chunk.lastIndexOf(10) + 1 : 0;
+      while (pos < n) {
+        try {
+          pos = runLines(handler, chunk, pos, n, limit, st);
+        } catch (e) {
+          if (onHandlerError) await onHandlerError(e);
+          throw e;
+        }
+        if (st.item === null) break;
+        const item = st.item;
+        st.item = null;
+        yield item;
       }
       if (pos < n) {
         carry = grow(carry, n - pos);
@@ -108,9 +140,9 @@ export async function* splitLines<T>(
     if (carryLen > 0) {
       let end = carryLen;
       if (carry[end - 1] === 13) end--;
-      lineNo++;
+      st.lineNo++;
       try {
-        const item = handler.line(carry, 0, end, lineNo);
+        const item = handler.line(carry, 0, end, st.lineNo);
         if (item !== null) yield item;
       } catch (e) {
         if (!(e instanceof InputError)) throw e;
@@ -119,7 +151,7 @@ export async function* splitLines<T>(
     }
     let last: T | null;
     try {
-      last = handler.finish(lineNo, broken);
+      last = handler.finish(st.lineNo, broken);
     } catch (e) {
       if (onHandlerError) await onHandlerError(e);
       throw e;
@@ -130,22 +162,27 @@ export async function* splitLines<T>(
   }
 }
 
-/** Call handler.line; on error give onHandlerError its chance, then rethrow. */
-function callLine<T>(
-  handler: LineHandler<T>,
-  buf: Uint8Array,
-  start: number,
-  end: number,
-  lineNo: number,
-  onHandlerError: ((err: unknown) => Promise<void>) | undefined,
-): T | null | Promise<never> {
-  try {
-    return handler.line(buf, start, end, lineNo);
-  } catch (e) {
-    if (!onHandlerError) throw e;
-    return onHandlerError(e).then(() => {
-      throw e;
-    });
+/**
+ * Feed the complete lines of buf[pos, n) to the handler until one completes an item (stored
+ * in st.item) or no complete line is left. Returns the position after the last line fed.
+ * Lines starting before `limit` may go through the handler's bulk path (limit 0: never).
+ * Synchronous, so that the per-line loop runs in plain optimised code.
+ */
+function runLines<T>(handler: LineHandler<T>, buf: Uint8Array, pos: number, n: number, limit: number, st: LineState<T>): number {
+  for (;;) {
+    if (pos < limit) {
+      pos = handler.bulk!(buf, pos, limit, st);
+      if (st.item !== null) return pos;
+    }
+    const nl = buf.indexOf(10, pos);
+    if (nl < 0 || nl >= n) return pos;
+    const end = nl > pos && buf[nl - 1] === 13 ? nl - 1 : nl;
+    const item = handler.line(buf, pos, end, ++st.lineNo);
+    pos = nl + 1;
+    if (item !== null) {
+      st.item = item;
+      return pos;
+    }
   }
 }
 
@@ -163,6 +200,131 @@ const POW10 = new Float64Array(23);
 for (let i = 0, p = 1; i <= 22; i++, p *= 10) POW10[i] = p;
 
 const TWO53 = 9007199254740992;
+
+/** Where fastFloat stopped: the byte after the number, or -1 when it declined. */
+export interface FloatEnd {
+  pos: number;
+}
+
+/**
+ * Fast number parser for bulk paths: same grammar and same values as LineCursor.float, but it
+ * relies on the line ending with '\n' (no bounds checks) and reports nothing: on anything it
+ * does not accept (malformed token, NaN, overflow, a terminator other than blank/CR/LF) it
+ * sets end.pos = -1 and the caller hands the line to the checking path. Leading spaces and
+ * tabs are skipped.
+ */
+export function fastFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
+  // Common case only (no exponent, short mantissa), kept small so that V8 inlines it.
+  let c = buf[p]!;
+  while (c === 32 || c === 9) c = buf[++p]!;
+  const start = p;
+  if (c === 45 || c === 43) c = buf[++p]!;
+  const d0 = p;
+  let m = 0;
+  while (c >= 48 && c <= 57) {
+    m = m * 10 + (c - 48);
+    c = buf[++p]!;
+  }
+  let nd = p - d0;
+  let scale = 0;
+  if (c === 46) {
+    const f0 = ++p;
+    c = buf[p]!;
+    while (c >= 48 && c <= 57) {
+      m = m * 10 + (c - 48);
+      c = buf[++p]!;
+    }
+    scale = f0 - p;
+    nd -= scale;
+  }
+  if (nd === 0 || !(c === 32 || c === 10 || c === 13 || c === 9) || m >= TWO53 || scale < -22) {
+    return fullFloat(buf, start, end);
+  }
+  end.pos = p;
+  const v = m / POW10[-scale]!;
+  return buf[start] === 45 ? -v : v;
+}
+
+/** fastFloat's general case (exponents, long mantissas, rejects), from the token start. */
+function fullFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
+  let c = buf[p]!;
+  while (c === 32 || c === 9) c = buf[++p]!;
+  const start = p;
+  let neg = false;
+  if (c === 45) {
+    neg = true;
+    c = buf[++p]!;
+  } else if (c === 43) {
+    c = buf[++p]!;
+  }
+  let m = 0;
+  let nd = 0;
+  while (c >= 48 && c <= 57) {
+    m = m * 10 + (c - 48);
+    nd++;
+    c = buf[++p]!;
+  }
+  let scale = 0;
+  if (c === 46) {
+    c = buf[++p]!;
+    const f0 = p;
+    while (c >= 48 && c <= 57) {
+      m = m * 10 + (c - 48);
+      c = buf[++p]!;
+    }
+    scale = f0 - p;
+    nd -= scale;
+  }
+  if (nd === 0) {
+    end.pos = -1;
+    return 0;
+  }
+  let e = 0;
+  const lc = c | 0x20;
+  if (lc === 101 || lc === 100) {
+    c = buf[++p]!;
+    let eneg = false;
+    if (c === 45) {
+      eneg = true;
+      c = buf[++p]!;
+    } else if (c === 43) {
+      c = buf[++p]!;
+    }
+    const e0 = p;
+    while (c >= 48 && c <= 57) {
+      if (e < 100000) e = e * 10 + (c - 48);
+      c = buf[++p]!;
+    }
+    if (p === e0) {
+      end.pos = -1;
+      return 0;
+    }
+    if (eneg) e = -e;
+  }
+  if (!(c === 32 || c === 10 || c === 13 || c === 9)) {
+    end.pos = -1;
+    return 0;
+  }
+  end.pos = p;
+  const x = e + scale;
+  if (m < TWO53 && x >= -22 && x <= 22) {
+    const v = x >= 0 ? m * POW10[x]! : m / POW10[-x]!;
+    return neg ? -v : v;
+  }
+  const v = numberFromBytes(buf, start, p);
+  if (!Number.isFinite(v)) end.pos = -1;
+  return v;
+}
+
+/** Number() of the token buf[start, end) with Fortran D exponents read as E. */
+function numberFromBytes(buf: Uint8Array, start: number, end: number): number {
+  let s = '';
+  for (let i = start; i < end; i++) {
+    const c = buf[i]!;
+    s += c === 100 || c === 68 ? 'e' : String.fromCharCode(c);
+  }
+  return Number(s);
+}
 
 /** Text of bytes buf[start, end) (Latin-1; the formats read here are ASCII). */
 export function latin1(buf: Uint8Array, start: number, end: number): string {
@@ -360,7 +522,7 @@ export class LineCursor {
     if (m < TWO53 && x >= -22 && x <= 22) {
       v = x >= 0 ? m * POW10[x]! : m / POW10[-x]!;
     } else {
-      v = this.slowNumber(start, p);
+      v = numberFromBytes(buf, start, p);
       if (!Number.isFinite(v)) {
         throw this.error(start, `${what} '${latin1(buf, start, p)}' is out of range (overflows to infinity)`);
       }
@@ -378,30 +540,18 @@ export class LineCursor {
     const saveEnd = this.end;
     const a = ls + from;
     const b = Math.min(ls + to, this.lineEnd);
-    if (a >= b) {
-      throw this.error(Math.min(a, this.lineEnd), `expected ${what} (a number in columns ${from + 1}-${to}), found end of line`);
-    }
+    const w = `${what} in columns ${from + 1}-${to}`;
+    if (a >= b) throw this.error(Math.min(a, this.lineEnd), `expected ${w} (a number), found end of line`);
     this.pos = a;
     this.end = b;
     try {
-      if (this.atEnd()) throw this.error(a, `expected ${what} (a number in columns ${from + 1}-${to}), found a blank field`);
-      const v = this.float(what);
-      if (!this.atEnd()) throw this.badNumber(a, `${what} (a number in columns ${from + 1}-${to})`, b);
+      if (this.atEnd()) throw this.error(a, `expected ${w} (a number), found a blank field`);
+      const v = this.float(w);
+      if (!this.atEnd()) throw this.badNumber(a, w, b);
       return v;
     } finally {
       this.end = saveEnd;
     }
-  }
-
-  /** Number() of the token with Fortran D exponents read as E. */
-  private slowNumber(start: number, end: number): number {
-    let s = '';
-    const buf = this.buf;
-    for (let i = start; i < end; i++) {
-      const c = buf[i]!;
-      s += c === 100 || c === 68 ? 'e' : String.fromCharCode(c);
-    }
-    return Number(s);
   }
 
   private badNumber(start: number, what: string, limit?: number): InputError {

@@ -91,6 +91,10 @@ export function formatValue(value: number, uncertainty: number | null, digits = 
   if (uncertainty === null || !Number.isFinite(uncertainty) || uncertainty <= 0) {
     return formatSig(value, digits);
   }
+  if (uncertainty < 1e-6 * Math.abs(value)) {
+    // Far more precise than any printed digits: keep 7 significant figures and show the error apart.
+    return `${formatSig(value, 7)} ± ${uncertainty.toExponential(1)}`;
+  }
   const e = Math.floor(Math.log10(uncertainty)) - 1;
   const big = Math.abs(value) >= 1e6 || (Math.abs(value) < 1e-3 && value !== 0);
   if (big) {
@@ -100,6 +104,11 @@ export function formatValue(value: number, uncertainty: number | null, digits = 
     return `(${(value / s).toFixed(dec)} ± ${(uncertainty / s).toFixed(dec)})e${exp}`;
   }
   const dec = Math.max(0, -e);
+  if (e > 0) {
+    // Round to the uncertainty's second significant digit even left of the decimal point.
+    const step = 10 ** e;
+    return `${(Math.round(value / step) * step).toFixed(0)} ± ${(Math.round(uncertainty / step) * step).toFixed(0)}`;
+  }
   return `${value.toFixed(dec)} ± ${uncertainty.toFixed(dec)}`;
 }
 

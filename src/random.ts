@@ -123,8 +123,8 @@ export class Random {
 /**
  * Gaussian AR(1) series x_t = φ·x_{t−1} + ε_t with ε_t ~ N(0, 1), started in the stationary
  * distribution x_0 ~ N(0, 1/(1−φ²)) so there is no transient. Requires |φ| < 1. Its statistical
- * inefficiency is g = (1+φ)/(1−φ) (M. B. Priestley, Spectral Analysis and Time Series, 1981, §3.5:
- * ρ(k) = φ^|k|, g = 1 + 2Σφ^k).
+ * inefficiency is g = (1+φ)/(1−φ) (M. B. Priestley, Spectral Analysis and Time Series,
+ * Academic Press 1981, AR(1) process: ρ(k) = φ^|k|, g = 1 + 2Σ_{k≥1}φ^k).
  */
 export function ar1Series(n: number, phi: number, seed: number | bigint): Float64Array {
   if (!(Math.abs(phi) < 1)) throw new RangeError(`ar1Series: |phi| must be < 1, got ${phi}`);

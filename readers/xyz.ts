@@ -1,0 +1,544 @@
+/**
+ * Multi-frame XYZ and extended XYZ.
+ *
+ * Each frame: a line with the atom count, a comment line, then one row per atom:
+ * `label x y z [vx vy vz]` (blank-separated; tabs, CR and trailing blanks are fine).
+ *
+ * Extended XYZ (the libAtoms/ASE convention) is recognised from `key=value` pairs on the
+ * comment line; keys are case-insensitive, values may be bare, "double-quoted",
+ * 'single-quoted', {braced} or [bracketed]; unknown keys are ignored:
+ * - `Lattice="ax ay az bx by bz cx cy cz"`: the cell, rows = cell vectors a, b, c in Å.
+ * - `Properties=name:type:count:...` (types S, R, I, L) describes the columns of the atom rows.
+ *   `species:S:1` (the label) and `pos:R:3` are required; `vel:R:3`, `velo:R:3` or
+ *   `velocities:R:3` give velocities (taken as Å/ps, no unit conversion: the convention has
+ *   no unit for them); every other field is skipped using its count. Rows must then have
+ *   exactly the number of columns Properties describes.
+ * - `Time=` is the frame time in ps.
+ *
+ * Velocity rule: a frame has velocities when its Properties declares vel/velo/velocities.
+ * Without a Properties key (plain XYZ), the first atom row of the first frame decides: exactly
+ * 7 columns (label x y z vx vy vz) → velocities, exactly 4 → positions only, anything else is
+ * an error (describe extra columns with Properties=); every row of every frame must then have
+ * that same number of columns.
+ *
+ * Consistency: every frame must have the atom count and labels of the first frame, and the
+ * same presence of Lattice, Properties and velocities (Properties may change its other fields); violations are InputErrors naming the frame
+ * (1-based) and line. Blank lines between frames and at the end are ignored; a blank line
+ * inside a frame's atom rows is an error unless only blank lines follow to the end of the
+ * file (then the frame is truncated).
+ *
+ * Frames share their typed arrays (positions, velocities, cell): the next frame overwrites
+ * them. The Topology is built once from the first frame.
+ */
+import { InputError } from '../src/errors.js';
+import type { Frame, Topology } from '../src/types.js';
+import { buildTopology, truncatedLastFrame, type TrajectoryReadOptions } from './common.js';
+import { LineCursor, fastFloat, latin1, parseNumberString, type FloatEnd, type LineHandler, type LineState } from './lines.js';
+
+const ST_COUNT = 0;
+const ST_COMMENT = 1;
+const ST_ATOMS = 2;
+const ST_BLANK = 3;
+
+// Column actions: 0..2 position x,y,z; 3..5 velocity x,y,z; 6 label; 7 skip.
+const A_LABEL = 6;
+const A_SKIP = 7;
+const WHAT = ['x coordinate', 'y coordinate', 'z coordinate', 'x velocity', 'y velocity', 'z velocity'];
+
+/** One key=value of an extended-XYZ comment line. */
+export interface CommentValue {
+  value: string;
+  /** 1-based column of the value's first character on the line. */
+  column: number;
+}
+
+/**
+ * Parse the key=value pairs of an extended-XYZ comment line. Keys are lower-cased; the first
+ * occurrence of a key wins. Words without '=' are skipped (so free-text comments such as
+ * "i = 0, time = 0.000" define nothing). Quotes, braces and brackets are removed from values.
+ */
+export function parseCommentPairs(text: string): Map<string, CommentValue> {
+  const out = new Map<string, CommentValue>();
+  const n = text.length;
+  let i = 0;
+  const ws = (ch: string) => ch === ' ' || ch === '\t' || ch === '\r';
+  while (i < n) {
+    while (i < n && ws(text[i]!)) i++;
+    if (i >= n) break;
+    const k0 = i;
+    while (i < n && !ws(text[i]!) && text[i] !== '=') i++;
+    const key = text.slice(k0, i).toLowerCase();
+    if (i < n && text[i] === '=') {
+      i++;
+      const ch = text[i];
+      let value: string;
+      let col: number;
+      if (ch === '"' || ch === "'") {
+        const q = ch;
+        i++;
+        col = i + 1;
+        let v = '';
+        while (i < n && text[i] !== q) {
+          if (text[i] === '\\' && i + 1 < n) i++;
+          v += text[i];
+          i++;
+        }
+        i++; // closing quote (or past the end)
+        value = v;
+      } else if (ch === '{' || ch === '[') {
+        const close = ch === '{' ? '}' : ']';
+        col = i + 1;
+        let depth = 0;
+        const v0 = i;
+        while (i < n) {
+          if (text[i] === ch) depth++;
+          else if (text[i] === close && --depth === 0) {
+            i++;
+            break;
+          }
+          i++;
+        }
+        value = text.slice(v0, i).replace(/[[\]{},]/g, ' ');
+      } else {
+        col = i + 1;
+        const v0 = i;
+        while (i < n && !ws(text[i]!)) i++;
+        value = text.slice(v0, i);
+      }
+      if (key.length > 0 && !out.has(key)) out.set(key, { value, column: col });
+    }
+    // A bare word without '=' (plain comment text, or an extended-XYZ flag) is skipped.
+  }
+  return out;
+}
+
+/** How the columns of an atom row map to label, positions, velocities or skipped fields. */
+export interface XyzLayout {
+  /** Action per column. */
+  actions: Int8Array;
+  velocities: boolean;
+}
+
+/** Column layout from a Properties= value. */
+export function layoutFromProperties(value: string, file: string, line: number, column: number): XyzLayout {
+  const parts = value.split(':');
+  const fail = (msg: string) =>
+    new InputError(file, line, column, `Properties="${value}": ${msg}`);
+  if (parts.length % 3 !== 0 || parts.length === 0) throw fail('expected name:type:count triples');
+  const actions: number[] = [];
+  let haveSpecies = false;
+  let havePos = false;
+  let haveVel = false;
+  for (let k = 0; k < parts.length; k += 3) {
+    const name = parts[k]!.toLowerCase();
+    const type = parts[k + 1]!.toUpperCase();
+    const count = Number(parts[k + 2]);
+    if (!/^[SRIL]$/.test(type)) throw fail(`unknown type '${parts[k + 1]}' for '${parts[k]}' (expected S, R, I or L)`);
+    if (!Number.isInteger(count) || count < 1 || count > 1000) throw fail(`bad column count '${parts[k + 2]}' for '${parts[k]}'`);
+    if (name === 'species' && !haveSpecies) {
+      if (type !== 'S' || count !== 1) throw fail('species must be species:S:1');
+      haveSpecies = true;
+      actions.push(A_LABEL);
+    } else if (name === 'pos' && !havePos) {
+      if (type !== 'R' || count !== 3) throw fail('pos must be pos:R:3');
+      havePos = true;
+      actions.push(0, 1, 2);
+    } else if ((name === 'vel' || name === 'velo' || name === 'velocities') && !haveVel) {
+      if (type !== 'R' || count !== 3) throw fail(`${parts[k]} must be ${parts[k]}:R:3`);
+      haveVel = true;
+      actions.push(3, 4, 5);
+    } else {
+      for (let j = 0; j < count; j++) actions.push(A_SKIP);
+    }
+  }
+  if (!haveSpecies) throw fail('no species:S:1 column');
+  if (!havePos) throw fail('no pos:R:3 column');
+  return { actions: Int8Array.from(actions), velocities: haveVel };
+}
+
+const PLAIN4: XyzLayout = { actions: Int8Array.from([A_LABEL, 0, 1, 2]), velocities: false };
+const PLAIN7: XyzLayout = { actions: Int8Array.from([A_LABEL, 0, 1, 2, 3, 4, 5]), velocities: true };
+
+/** The XYZ line state machine. Create one per file. */
+export class XyzParser implements LineHandler<Frame> {
+  readonly file: string;
+  private readonly opts: TrajectoryReadOptions;
+  private readonly cur: LineCursor;
+  private state = ST_COUNT;
+  /** 0-based index of the frame being read. */
+  private frameIndex = 0;
+  private frameLine = 0;
+  /** Atom count of the first frame (-1 before it is known). */
+  private nAtoms = -1;
+  private count = 0;
+  private atom = 0;
+  private blankLine = 0;
+  private positions: Float64Array = new Float64Array(0);
+  private velocities: Float64Array | null = null;
+  private cell: Float64Array | null = null;
+  private hasCell = false;
+  private firstHasCell = false;
+  private time: number | null = null;
+  private layout: XyzLayout | null = null;
+  private plain = true;
+  private firstHadProperties = false;
+  private propertiesKey: string | null = null;
+  private firstVelocities = false;
+  // first-frame labels
+  private labels: string[] = [];
+  private labelBytes = new Uint8Array(1024);
+  private labelOff: Int32Array = new Int32Array(1);
+  private labelLen = 0;
+  private topology: Topology | null = null;
+  private readonly fend: FloatEnd = { pos: 0 };
+  /** Complete frames produced. */
+  complete = 0;
+
+  constructor(file: string, opts: TrajectoryReadOptions) {
+    this.file = file;
+    this.opts = opts;
+    this.cur = new LineCursor(file);
+  }
+
+  line(buf: Uint8Array, start: number, end: number, lineNo: number): Frame | null {
+    const state = this.state;
+    if (state === ST_ATOMS) {
+      if (start === end || LineCursor.isBlankLine(buf, start, end)) {
+        this.state = ST_BLANK;
+        this.blankLine = lineNo;
+        return null;
+      }
+      this.row(buf, start, end, lineNo);
+      if (++this.atom === this.count) return this.finishFrame();
+      return null;
+    }
+    if (state === ST_COUNT) {
+      if (LineCursor.isBlankLine(buf, start, end)) return null;
+      this.countLine(buf, start, end, lineNo);
+      return null;
+    }
+    if (state === ST_COMMENT) {
+      this.commentLine(buf, start, end, lineNo);
+      this.atom = 0;
+      this.state = ST_ATOMS;
+      return null;
+    }
+    // ST_BLANK
+    if (LineCursor.isBlankLine(buf, start, end)) return null;
+    throw new InputError(
+      this.file,
+      this.blankLine,
+      null,
+      `blank line where atom row ${this.atom + 1} of ${this.count} of frame ${this.frameIndex + 1} (starting at line ${this.frameLine}) was expected`,
+    );
+  }
+
+  /**
+   * Fast path for atom rows: parses well-formed rows directly from the bytes (labels recorded
+   * in the first frame, compared with the first frame's later) and declines at the first line
+   * that is unusual in any way, which then goes through line() and its error reporting.
+   * Nothing is recorded for a line until it is known to be complete and well formed.
+   */
+  bulk(buf: Uint8Array, pos: number, limit: number, st: LineState<Frame>): number {
+    if (this.state !== ST_ATOMS || this.layout === null) return pos;
+    const first = this.nAtoms < 0;
+    const actions = this.layout.actions;
+    const nc = actions.length;
+    const P = this.positions;
+    const V = this.velocities;
+    const lb = this.labelBytes;
+    const lo = this.labelOff;
+    const fend = this.fend;
+    const count = this.count;
+    let atom = this.atom;
+    let lineNo = st.lineNo;
+    let labS = 0;
+    let labE = 0;
+    rows: while (pos < limit) {
+      let p = pos;
+      const i3 = atom * 3;
+      for (let c = 0; c < nc; c++) {
+        const a = actions[c]!;
+        if (a < 6) {
+          const v = fastFloat(buf, p, fend);
+          p = fend.pos;
+          if (p < 0) break rows;
+          if (a < 3) P[i3 + a] = v;
+          else V![i3 + a - 3] = v;
+        } else {
+          let ch = buf[p]!;
+          while (ch === 32 || ch === 9) ch = buf[++p]!;
+          const s = p;
+          while (ch > 32) ch = buf[++p]!;
+          if (p === s) break rows;
+          if (a === A_LABEL) {
+            if (first) {
+              labS = s;
+              labE = p;
+            } else {
+              const o = lo[atom]!;
+              if (lo[atom + 1]! - o !== p - s) break rows;
+              for (let k = s; k < p; k++) if (buf[k] !== lb[o + k - s]) break rows;
+            }
+          }
+        }
+      }
+      let ch = buf[p]!;
+      while (ch === 32 || ch === 9 || ch === 13) ch = buf[++p]!;
+      if (ch !== 10) break;
+      if (first) {
+        this.atom = atom;
+        this.recordLabel(buf, labS, labE);
+      }
+      pos = p + 1;
+      lineNo++;
+      atom++;
+      if (atom === count) {
+        this.atom = atom;
+        st.lineNo = lineNo;
+        st.item = this.finishFrame();
+        return pos;
+      }
+    }
+    this.atom = atom;
+    st.lineNo = lineNo;
+    return pos;
+  }
+
+  finish(_lines: number, broken: InputError | null): Frame | null {
+    const st = this.state;
+    if (st === ST_COUNT && broken === null) {
+      if (this.complete === 0) throw new InputError(this.file, null, null, 'no frame found (the file is empty or blank)');
+      return null;
+    }
+    let detail: string;
+    if (st === ST_COUNT) detail = `its atom-count line is cut off: ${broken!.message}`;
+    else if (st === ST_COMMENT) detail = `it ends after the atom count, before the comment line`;
+    else {
+      detail = `${this.atom} of ${this.count} atom rows`;
+      if (broken) detail += `; the last line is incomplete: ${broken.message}`;
+    }
+    truncatedLastFrame(this.file, this.opts, this.frameIndex + 1, this.frameLine, detail, this.complete);
+    return null;
+  }
+
+  private countLine(buf: Uint8Array, start: number, end: number, lineNo: number): void {
+    const cur = this.cur;
+    cur.reset(buf, start, end, lineNo);
+    const n = cur.uint(`the atom count of frame ${this.frameIndex + 1}`);
+    cur.expectEnd('the atom count');
+    if (n === 0) throw cur.error(cur.lineStart, `frame ${this.frameIndex + 1} has an atom count of 0`);
+    if (this.nAtoms >= 0 && n !== this.nAtoms) {
+      throw new InputError(
+        this.file,
+        lineNo,
+        1,
+        `frame ${this.frameIndex + 1} has ${n} atoms, but the first frame has ${this.nAtoms} (every frame must have the same atoms)`,
+      );
+    }
+    if (this.nAtoms < 0) {
+      this.positions = new Float64Array(3 * n);
+      this.labelOff = new Int32Array(n + 1);
+    }
+    this.count = n;
+    this.frameLine = lineNo;
+    this.state = ST_COMMENT;
+  }
+
+  private commentLine(buf: Uint8Array, start: number, end: number, lineNo: number): void {
+    const first = this.nAtoms < 0;
+    let pairs: Map<string, CommentValue> | null = null;
+    if (buf.subarray(start, end).indexOf(61) >= 0) pairs = parseCommentPairs(latin1(buf, start, end));
+    // Time
+    const t = pairs?.get('time');
+    this.time = t ? parseNumberString(t.value, 'Time= value (ps)', this.file, lineNo, t.column) : null;
+    // Lattice
+    const lat = pairs?.get('lattice');
+    if (lat) {
+      const nums = lat.value.trim().split(/[\s,]+/).filter((s) => s.length > 0);
+      if (nums.length !== 9) {
+        throw new InputError(this.file, lineNo, lat.column, `Lattice= needs 9 numbers (cell vectors a, b, c), found ${nums.length}`);
+      }
+      const cell = this.cell ?? (this.cell = new Float64Array(9));
+      for (let k = 0; k < 9; k++) cell[k] = parseNumberString(nums[k]!, 'Lattice= component', this.file, lineNo, lat.column);
+      const det =
+        cell[0]! * (cell[4]! * cell[8]! - cell[5]! * cell[7]!) -
+        cell[1]! * (cell[3]! * cell[8]! - cell[5]! * cell[6]!) +
+        cell[2]! * (cell[3]! * cell[7]! - cell[4]! * cell[6]!);
+      const na = Math.hypot(cell[0]!, cell[1]!, cell[2]!);
+      const nb = Math.hypot(cell[3]!, cell[4]!, cell[5]!);
+      const nc = Math.hypot(cell[6]!, cell[7]!, cell[8]!);
+      if (!(Math.abs(det) > 1e-10 * na * nb * nc)) {
+        throw new InputError(this.file, lineNo, lat.column, `Lattice= vectors are degenerate (cell volume ${det})`);
+      }
+    }
+    this.hasCell = lat !== undefined;
+    if (first) this.firstHasCell = this.hasCell;
+    else if (this.hasCell !== this.firstHasCell) {
+      throw new InputError(
+        this.file,
+        lineNo,
+        null,
+        this.hasCell
+          ? `frame ${this.frameIndex + 1} has a Lattice= but the first frame has none`
+          : `frame ${this.frameIndex + 1} has no Lattice= but the first frame has one`,
+      );
+    }
+    // Properties
+    const props = pairs?.get('properties');
+    if (first) this.firstHadProperties = props !== undefined;
+    else if ((props !== undefined) !== this.firstHadProperties) {
+      throw new InputError(
+        this.file,
+        lineNo,
+        null,
+        props
+          ? `frame ${this.frameIndex + 1} has a Properties= but the first frame has none`
+          : `frame ${this.frameIndex + 1} has no Properties= but the first frame has one`,
+      );
+    }
+    if (props) {
+      if (props.value !== this.propertiesKey) {
+        this.layout = layoutFromProperties(props.value, this.file, lineNo, props.column);
+        this.propertiesKey = props.value;
+      }
+      this.plain = false;
+    } else {
+      this.plain = true;
+      if (!first) this.layout = this.firstVelocities ? PLAIN7 : PLAIN4;
+      else this.layout = null; // decided by the first atom row
+    }
+    if (this.layout !== null) this.checkVelocities(lineNo, first);
+  }
+
+  private checkVelocities(lineNo: number, first: boolean): void {
+    const v = this.layout!.velocities;
+    if (first) {
+      this.firstVelocities = v;
+      if (v && this.velocities === null) this.velocities = new Float64Array(3 * this.count);
+    } else if (v !== this.firstVelocities) {
+      throw new InputError(
+        this.file,
+        lineNo,
+        null,
+        v
+          ? `frame ${this.frameIndex + 1} has velocities but the first frame has none`
+          : `frame ${this.frameIndex + 1} has no velocities but the first frame has them`,
+      );
+    }
+  }
+
+  private row(buf: Uint8Array, start: number, end: number, lineNo: number): void {
+    const cur = this.cur;
+    cur.reset(buf, start, end, lineNo);
+    let layout = this.layout;
+    if (layout === null) {
+      // plain XYZ, first row of the first frame: 4 or 7 columns
+      const nc = cur.countTokens();
+      if (nc === 4) layout = PLAIN4;
+      else if (nc === 7) layout = PLAIN7;
+      else {
+        throw cur.error(
+          start,
+          `atom row has ${nc} columns; plain XYZ rows must be 'label x y z' (4) or 'label x y z vx vy vz' (7) — describe other columns with an extended-XYZ Properties= key`,
+        );
+      }
+      this.layout = layout;
+      this.checkVelocities(lineNo, true);
+    }
+    const actions = layout.actions;
+    const nc = actions.length;
+    const i3 = this.atom * 3;
+    const pos = this.positions;
+    const vel = this.velocities;
+    try {
+      for (let c = 0; c < nc; c++) {
+        const a = actions[c]!;
+        if (a < 3) pos[i3 + a] = cur.float(WHAT[a]!);
+        else if (a < 6) vel![i3 + a - 3] = cur.float(WHAT[a]!);
+        else if (a === A_LABEL) this.label(cur);
+        else cur.token(`column ${c + 1}`);
+      }
+      if (cur.pos < end) {
+        cur.skipBlanks();
+        if (cur.pos < end) {
+          const s = cur.pos;
+          throw cur.error(
+            s,
+            `atom row has more than ${nc} columns ('${latin1(buf, s, cur.tokenEnd(s))}' is extra)${this.plain ? '; plain XYZ rows have 4 or 7 columns, use Properties= to describe others' : ' for its Properties='}`,
+          );
+        }
+      }
+    } catch (e) {
+      // A lone integer where an atom row was expected: the frame has fewer rows than declared.
+      if (e instanceof InputError) {
+        cur.reset(buf, start, end, lineNo);
+        if (cur.countTokens() === 1 && /^\s*\d+\s*$/.test(latin1(buf, start, end))) {
+          throw new InputError(
+            this.file,
+            lineNo,
+            1,
+            `expected atom row ${this.atom + 1} of ${this.count} of frame ${this.frameIndex + 1} (starting at line ${this.frameLine}), found what looks like an atom count: the frame has fewer atom rows than its count says`,
+          );
+        }
+      }
+      throw e;
+    }
+  }
+
+  private label(cur: LineCursor): void {
+    const s = cur.token('atom label');
+    const e = cur.pos;
+    const buf = cur.buf;
+    const len = e - s;
+    const atom = this.atom;
+    if (this.nAtoms < 0) {
+      this.recordLabel(buf, s, e);
+      return;
+    }
+    const o = this.labelOff[atom]!;
+    const lb = this.labelBytes;
+    let same = this.labelOff[atom + 1]! - o === len;
+    for (let k = 0; same && k < len; k++) if (buf[s + k] !== lb[o + k]) same = false;
+    if (!same) {
+      throw cur.error(
+        s,
+        `atom ${atom + 1} of frame ${this.frameIndex + 1} is labelled '${latin1(buf, s, e)}', but '${this.labels[atom]}' in the first frame (every frame must list the same atoms in the same order)`,
+      );
+    }
+  }
+
+  /** First frame: remember the label of atom this.atom (bytes for comparisons, and text). */
+  private recordLabel(buf: Uint8Array, s: number, e: number): void {
+    const len = e - s;
+    if (this.labelLen + len > this.labelBytes.length) {
+      const nb = new Uint8Array(Math.max(this.labelBytes.length * 2, this.labelLen + len));
+      nb.set(this.labelBytes.subarray(0, this.labelLen));
+      this.labelBytes = nb;
+    }
+    this.labelBytes.set(buf.subarray(s, e), this.labelLen);
+    this.labelLen += len;
+    this.labelOff[this.atom + 1] = this.labelLen;
+    this.labels.push(latin1(buf, s, e));
+  }
+
+  private finishFrame(): Frame {
+    if (this.topology === null) {
+      this.nAtoms = this.count;
+      this.topology = buildTopology(this.labels, null, null, null);
+    }
+    const frame: Frame = {
+      index: this.frameIndex,
+      time: this.time,
+      cell: this.hasCell ? this.cell : null,
+      positions: this.positions,
+      velocities: this.velocities,
+      line: this.frameLine,
+      topology: this.topology,
+    };
+    this.frameIndex++;
+    this.complete++;
+    this.state = ST_COUNT;
+    return frame;
+  }
+}
