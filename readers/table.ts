@@ -143,8 +143,11 @@ class TableParser implements LineHandler<never> {
     const n = tokens.length;
     let names: string[] | null = null;
     for (let k = this.comments.length - 1; k >= 0; k--) {
-      const cand = splitNames(this.comments[k]!.text, this.kind);
-      if (cand.length === n && cand.every((x) => x.length > 0)) {
+      // A comment header may be written with spaces even when the data are tab- or comma-separated.
+      const text = this.comments[k]!.text;
+      const cands = [splitNames(text, this.kind), splitNames(text, 'ws')];
+      const cand = cands.find((c) => c.length === n && c.every((x) => x.length > 0));
+      if (cand) {
         names = cand;
         break;
       }

@@ -131,3 +131,18 @@ describe('column tables', () => {
     expect(Array.from(b.columns.get('e')!)).toEqual([-150, 25]);
   });
 });
+
+describe('comment header written with spaces over tab-separated data', () => {
+  it('takes the names from the space-separated header', async () => {
+    // A common layout of simulation energy tables (common practice, no source): "# a b c" then TSV rows.
+    const { writeFileSync, mkdtempSync } = await import('node:fs');
+    const { join } = await import('node:path');
+    const { tmpdir } = await import('node:os');
+    const p = join(mkdtempSync(join(tmpdir(), 'sojourn-tbl-')), 'e.tsv');
+    writeFileSync(p, '# time potential kinetic\n0.0\t-1.5\t2.25\n0.5\t-1.0\t2.0\n');
+    const t = await readTable(p, { warnings: [] });
+    expect(t.names).toEqual(['time', 'potential', 'kinetic']);
+    expect(Array.from(t.time!)).toEqual([0, 0.5]);
+    expect(Array.from(t.columns.get('kinetic')!)).toEqual([2.25, 2.0]);
+  });
+});
