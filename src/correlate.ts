@@ -374,6 +374,7 @@ function wholeAutoSums(terms: Term[], maxLag: number, s: number): Float64Array {
   const z = cached ? cached.a : new Float64Array(2 * m);
   const spec = cached ? cached.b : new Float64Array(2 * m);
   const power = new Float64Array(m + 1);
+  const { cos, sin } = twiddles(s);
   for (const { x, bx } of terms) {
     // Interleaved complex r_{2j} + i·r_{2j+1} is the real sequence itself, zero padded.
     const { intercept, slope } = bx;
@@ -391,9 +392,8 @@ function wholeAutoSums(terms: Term[], maxLag: number, s: number): Float64Array {
       const ei = 0.5 * (zi + ci);
       const or = 0.5 * (zi - ci);
       const oi = -0.5 * (zr - cr);
-      const th = (2 * Math.PI * f) / s;
-      const c = Math.cos(th);
-      const sn = -Math.sin(th);
+      const c = cos[f]!;
+      const sn = -sin[f]!;
       const xr = er + c * or - sn * oi;
       const xi = ei + c * oi + sn * or;
       power[f] += xr * xr + xi * xi;
@@ -404,14 +404,33 @@ function wholeAutoSums(terms: Term[], maxLag: number, s: number): Float64Array {
     const q = power[m - f]!;
     const e = 0.5 * (p + q);
     const d = 0.5 * (p - q);
-    const th = (2 * Math.PI * f) / s;
-    z[2 * f] = e - d * Math.sin(th);
-    z[2 * f + 1] = d * Math.cos(th);
+    z[2 * f] = e - d * sin[f]!;
+    z[2 * f + 1] = d * cos[f]!;
   }
   fft.inverseTransform(spec, z);
   const r = new Float64Array(maxLag + 1);
   for (let k = 0; k <= maxLag; k++) r[k] = spec[k]!; // spec holds r_0, r_1, r_2, ... interleaved
   return r;
+}
+
+const twiddleCache = new Map<number, { cos: Float64Array; sin: Float64Array }>();
+
+/** cos(2πf/s) and sin(2πf/s) for f = 0 … s/2, cached per transform length s. */
+function twiddles(s: number): { cos: Float64Array; sin: Float64Array } {
+  let t = twiddleCache.get(s);
+  if (!t) {
+    const m = s / 2;
+    const cos = new Float64Array(m + 1);
+    const sin = new Float64Array(m + 1);
+    for (let f = 0; f <= m; f++) {
+      const th = (2 * Math.PI * f) / s;
+      cos[f] = Math.cos(th);
+      sin[f] = Math.sin(th);
+    }
+    t = { cos, sin };
+    if (s <= CACHE_MAX_SIZE * 2) twiddleCache.set(s, t);
+  }
+  return t;
 }
 
 /** Arithmetic mean (plain summation; the correlations only need it as a centring constant). */

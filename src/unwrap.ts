@@ -67,7 +67,7 @@ export class Unwrapper {
       d[1] = y - p[3 * k + 1];
       d[2] = z - p[3 * k + 2];
       if (g) g.minimumImage(d, 0);
-      const len = Math.hypot(d[0], d[1], d[2]);
+      const len = Math.sqrt(d[0] * d[0] + d[1] * d[1] + d[2] * d[2]);
       if (len > third) this.longSteps++;
       if (len / width > this.maxStepFraction) this.maxStepFraction = len / width;
       u[3 * k] += d[0];

@@ -1,0 +1,474 @@
+/**
+ * Ionic conductivity three ways, from one stored trajectory (the coordinate store of
+ * analyses/msd.ts, shared with the per-species MSD):
+ *
+ * - Nernst–Einstein (ions independent): σ_NE = e²/(V k_B T) Σ_i N_i z_i² D_i with each species'
+ *   MSD self-diffusion coefficient (src/transport.ts), uncertainty by first-order propagation
+ *   of the D uncertainties (JCGM 100:2008).
+ * - Einstein–Helfand (collective, includes ion–ion correlations):
+ *     σ = lim_{t→∞} 1/(6 V k_B T) d/dt ⟨|ΔM(t)|²⟩,  M(t) = Σ_i q_i [r_i(t) − R(t)],
+ *   with unwrapped, drift-corrected positions (R = the same centre of mass as the MSD; for a
+ *   neutral system it cancels exactly), all time origins by FFT, slope over the automatic
+ *   diffusive window of src/fit.ts (or the user's), uncertainty over independent segments
+ *   (Helfand, Phys. Rev. 119, 1 (1960); e.g. Hansen & McDonald, Theory of Simple Liquids).
+ * - Green–Kubo, when the file carries velocities:
+ *     σ = 1/(3 V k_B T) ∫₀^∞ ⟨J(0)·J(t)⟩ dt,  J = Σ_i q_i v_i,
+ *   value on the running integral's plateau (src/fit.ts), uncertainty over segments (Green,
+ *   J. Chem. Phys. 22, 398 (1954); Kubo, J. Phys. Soc. Jpn. 12, 570 (1957)).
+ *
+ * Ionicity σ/σ_NE (Einstein–Helfand over Nernst–Einstein) and the Haven ratio H = σ_NE/σ, both
+ * with first-order uncertainties treating the two conductivities as independent (they are
+ * positively correlated, so this overstates the uncertainty). Molar conductivity Λ = σ/c with
+ * c the salt concentration, defined as the concentration of cations (count of positive sites /
+ * (N_A ⟨V⟩)) — for a 1:1 salt the salt concentration; for other stoichiometries divide by the
+ * number of cations per formula unit.
+ */
+import type { Pass, PassContext, Quantity, Topology } from '../src/types.js';
+import { quantity } from '../src/types.js';
+import { parseSelection, selectAtoms } from '../src/selection.js';
+import { UsageError } from '../src/errors.js';
+import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } from '../src/units.js';
+import { nernstEinsteinConductivity, nernstEinsteinUncertainty, relativeErrorProduct } from '../src/transport.js';
+import { sumOfAutocorrelations } from '../src/correlate.js';
+import { cumulativeTrapezoid, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
+import {
+  StoreView,
+  analyseMsd,
+  atomSiteMap,
+  driftDescription,
+  fitSlopeWithSegments,
+  moleculeSiteMap,
+  msdSumFft,
+  requireFrameInterval,
+  storeBytes,
+  storePass,
+  uncertaintyRuleText,
+  windowRuleText,
+  type LayoutSpec,
+  type MsdResult,
+  type SiteGroup,
+  type SiteLayout,
+  type StorePartial,
+} from './msd.js';
+import { plateauWithSegments, velocitySourceOf } from './vacf.js';
+
+// ---------------------------------------------------------------------------------------------
+// Charges
+// ---------------------------------------------------------------------------------------------
+
+/** One entry of a charge option: the atoms a selection picks get `charge` (e). */
+export interface ChargeRule {
+  selection: string;
+  charge: number;
+}
+
+const CHARGE_TAIL = /^(.*)=\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*$/;
+
+/**
+ * Parse "SEL=CHARGE,SEL=CHARGE,…" (e.g. "Na=+1,Cl=-1", "res=SOL&el=O=-0.8476"). The charge is the
+ * number after the last '='; a piece without one belongs to the next entry, so a selection may
+ * itself contain ',' ("OW,HW*=0"). Later entries override earlier ones for the atoms they pick.
+ */
+export function parseChargeRules(text: string): ChargeRule[] {
+  const rules: ChargeRule[] = [];
+  let pending = '';
+  for (const piece of text.split(',')) {
+    const joined = pending ? `${pending},${piece}` : piece;
+    const m = CHARGE_TAIL.exec(joined);
+    if (!m || m[1].trim() === '') {
+      pending = joined;
+      continue;
+    }
+    const charge = Number(m[2]);
+    if (!Number.isFinite(charge)) throw new UsageError(`--charges: "${m[2]}" is not a number`);
+    const selection = m[1].trim();
+    parseSelection(selection);
+    rules.push({ selection, charge });
+    pending = '';
+  }
+  if (pending) throw new UsageError(`--charges: "${pending}" has no "=CHARGE"; expected entries like Na=+1,Cl=-1`);
+  if (rules.length === 0) throw new UsageError('--charges: no entries');
+  return rules;
+}
+
+/**
+ * Charge per atom (e) from rules, or from the file's formal charges when `rules` is null.
+ * Atoms no rule picks are neutral.
+ */
+export function atomCharges(topology: Topology, rules: ChargeRule[] | null): Float64Array {
+  if (rules === null) {
+    if (!topology.charges) {
+      throw new UsageError('no charges: give --charges (e.g. Na=+1,Cl=-1) or use a file that carries formal charges');
+    }
+    return Float64Array.from(topology.charges);
+  }
+  const q = new Float64Array(topology.atoms);
+  for (const r of rules) for (const a of selectAtoms(r.selection, topology)) q[a] = r.charge;
+  return q;
+}
+
+/** Format a charge as "+1", "-0.5". */
+function chargeText(q: number): string {
+  return `${q > 0 ? '+' : ''}${Number(q.toPrecision(6))}`;
+}
+
+/**
+ * Sites for the conductivity: every charged atom (grouped by label and charge), or with
+ * `molecules` every molecule with a non-zero net charge (grouped by residue name and charge).
+ */
+export function chargeLayout(topology: Topology, q: Float64Array, molecules: boolean): SiteLayout & { siteCharges: Float64Array } {
+  const notes: string[] = [];
+  const keys: string[] = [];
+  const charges: number[] = [];
+  let map;
+  if (molecules) {
+    const res = topology.residues;
+    if (!res) throw new UsageError('--molecules needs residues (a PDB file with residue names and numbers); this file has none');
+    const members: number[][] = Array.from({ length: res.count }, () => []);
+    for (let a = 0; a < topology.atoms; a++) members[res.molecule[a]].push(a);
+    const chosen: number[][] = [];
+    for (const m of members) {
+      const net = m.reduce((s, a) => s + q[a], 0);
+      if (m.length === 0 || Math.abs(net) < 1e-9) continue;
+      chosen.push(m);
+      keys.push(res.names[m[0]]);
+      charges.push(net);
+    }
+    const built = moleculeSiteMap(chosen, topology.masses);
+    if (built.equalWeights) notes.push('some molecules contain atoms of unknown mass: their centres use equal atom weights');
+    map = built.map;
+  } else {
+    const atoms: number[] = [];
+    for (let a = 0; a < topology.atoms; a++) {
+      if (q[a] === 0) continue;
+      atoms.push(a);
+      keys.push(topology.labels[a]);
+      charges.push(q[a]);
+    }
+    map = atomSiteMap(Int32Array.from(atoms));
+  }
+  if (map.count === 0) throw new UsageError('no charged atoms (or molecules): check --charges');
+  // Group by key and charge; a key with several charges gets the charge in its label.
+  const chargesOfKey = new Map<string, Set<number>>();
+  keys.forEach((k, i) => {
+    if (!chargesOfKey.has(k)) chargesOfKey.set(k, new Set());
+    chargesOfKey.get(k)!.add(charges[i]);
+  });
+  const groups = new Map<string, { sites: number[]; charge: number }>();
+  keys.forEach((k, i) => {
+    const label = chargesOfKey.get(k)!.size > 1 ? `${k}(${chargeText(charges[i])})` : k;
+    if (!groups.has(label)) groups.set(label, { sites: [], charge: charges[i] });
+    groups.get(label)!.sites.push(i);
+  });
+  const out: SiteGroup[] = [...groups.entries()].map(([label, g]) => ({ label, sites: Int32Array.from(g.sites), charge: g.charge }));
+  return { map, groups: out, molecules, notes, siteCharges: Float64Array.from(charges) };
+}
+
+// ---------------------------------------------------------------------------------------------
+// Pure conversions
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * Conductivity from a collective time integral: σ = I / (3 V k_B T) with I = ∫⟨J(0)·J(t)⟩dt in
+ * e²Å²/ps (Green–Kubo), or I = slope/2 of ⟨|ΔM|²⟩ in e²Å²/ps (Einstein–Helfand: σ = slope/(6VkT)).
+ * Units: e² · 1e-8 m²/s per e²Å²/ps, V in Å³ → S/m (Helfand 1960; Green 1954; Kubo 1957).
+ */
+export function conductivityFromIntegral(integralE2A2PerPs: number, volumeA3: number, temperatureK: number): number {
+  return (
+    (ELEMENTARY_CHARGE * ELEMENTARY_CHARGE * integralE2A2PerPs * A2_PER_PS) /
+    (3 * volumeA3 * CUBIC_ANGSTROM * BOLTZMANN * temperatureK)
+  );
+}
+
+/** Einstein–Helfand conductivity from the slope of ⟨|ΔM|²⟩ (e²Å²/ps): σ = slope/(6 V k_B T), S/m. */
+export function einsteinHelfandFromSlope(slopeE2A2PerPs: number, volumeA3: number, temperatureK: number): number {
+  return conductivityFromIntegral(slopeE2A2PerPs / 2, volumeA3, temperatureK);
+}
+
+/** Concentration c = N/(N_A V) in mol/m³ for N particles in V Å³ (1 mol/L = 1000 mol/m³). */
+export function concentrationMolPerM3(count: number, volumeA3: number): number {
+  return count / (AVOGADRO * volumeA3 * CUBIC_ANGSTROM);
+}
+
+/**
+ * Ratio a/b with first-order uncertainty u_r = √((u_a/a)² + (u_b/b)²)·|a/b| (JCGM 100:2008 eq. 12,
+ * independent inputs). Null uncertainties count as exact; both null gives null.
+ */
+export function ratioWithUncertainty(a: Quantity, b: Quantity, unit: string): Quantity {
+  const r = a.value / b.value;
+  const unc =
+    a.uncertainty === null && b.uncertainty === null
+      ? null
+      : Math.abs(r) * relativeErrorProduct([{ value: a.value, uncertainty: a.uncertainty }, { value: b.value, uncertainty: b.uncertainty, power: -1 }]);
+  return quantity(r, unc, unit);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Collective series
+// ---------------------------------------------------------------------------------------------
+
+/**
+ * Collective series X_c(t) = Σ_s q_s [x_{s,c}(t) − R_c(t)] over frames [from, from+count), for
+ * positions (M, e·Å) or with `velocity` for velocities (J, e·Å/ps).
+ */
+export function collectiveSeries(view: StoreView, q: Float64Array, from: number, count: number, velocity: boolean): Float64Array[] {
+  const store = view.store;
+  const drift = velocity ? store.comVelocity : store.com;
+  const out = [0, 1, 2].map(() => new Float64Array(count));
+  let qsum = 0;
+  for (const x of q) qsum += x;
+  for (let t = 0; t < count; t++) {
+    const [arr, off] = view.at(from + t, velocity);
+    let x = 0, y = 0, z = 0;
+    for (let s = 0; s < q.length; s++) {
+      const o = off + 3 * s;
+      x += q[s] * arr[o];
+      y += q[s] * arr[o + 1];
+      z += q[s] * arr[o + 2];
+    }
+    if (drift) {
+      const d = 3 * (from + t);
+      x -= qsum * drift[d];
+      y -= qsum * drift[d + 1];
+      z -= qsum * drift[d + 2];
+    }
+    out[0][t] = x;
+    out[1][t] = y;
+    out[2][t] = z;
+  }
+  return out;
+}
+
+/** ⟨|ΔM(m)|²⟩ over all origins (e²Å²) of frames [from, from+count), m = 0 … maxLag, by FFT. */
+export function collectiveMsd(view: StoreView, q: Float64Array, from: number, count: number, maxLag: number): Float64Array {
+  return msdSumFft(collectiveSeries(view, q, from, count, false), maxLag);
+}
+
+/** ⟨J(0)·J(m)⟩ over all origins (e²Å²/ps²), m = 0 … maxLag, by FFT. */
+export function currentAutocorrelation(view: StoreView, q: Float64Array, from: number, count: number, maxLag: number): Float64Array {
+  return sumOfAutocorrelations(collectiveSeries(view, q, from, count, true), { maxLag });
+}
+
+// ---------------------------------------------------------------------------------------------
+// The analysis
+// ---------------------------------------------------------------------------------------------
+
+/** Options of the conductivity analysis. */
+export interface ConductivityOptions {
+  temperature: number;
+  fitFrom?: number;
+  fitTo?: number;
+  tolerance?: number;
+  maxFraction?: number;
+  segments?: number;
+  plateauTolerance?: number;
+  plateauSpan?: number;
+  /** Compute the Green–Kubo value when velocities exist (default true). */
+  greenKubo?: boolean;
+}
+
+/** Per-species part of the result. */
+export interface ConductivitySpecies {
+  label: string;
+  count: number;
+  charge: number;
+  diffusion: Quantity;
+  fit: { from: number; to: number };
+  converged: boolean;
+  notes: string[];
+}
+
+/** Conductivity result (JSON `results`). */
+export interface ConductivityResult {
+  nernstEinstein: Quantity;
+  einsteinHelfand: Quantity;
+  greenKubo: Quantity | null;
+  ionicity: Quantity;
+  havenRatio: Quantity | null;
+  molarConductivity: Quantity | null;
+  concentration: Quantity | null;
+  fit: { from: number; to: number; points: number; automatic: boolean };
+  greenKuboPlateau: { from: number; to: number; found: boolean } | null;
+  species: ConductivitySpecies[];
+  volume: Quantity;
+  temperature: Quantity;
+  netCharge: number;
+  converged: boolean;
+  notes: string[];
+  curves: {
+    time: Float64Array;
+    /** ⟨|ΔM|²⟩, e²Å². */
+    collectiveMsd: Float64Array;
+    /** Running Green–Kubo conductivity, S/m (null without velocities). */
+    greenKuboRunning: Float64Array | null;
+  };
+  frames: number;
+  frameInterval: number;
+  driftRemoved: boolean;
+  driftNote: string;
+  bytesHeld: number;
+  rules: { window: string; uncertainty: string; concentration: string; ratios: string };
+}
+
+/**
+ * Conductivity from a finished store whose sites carry charges (`chargeLayout`). `msd` may be
+ * given when the per-species MSD analysis of the same store has already run (no second
+ * computation); otherwise it is run here without the non-Gaussian parameter.
+ */
+export function analyseConductivity(
+  store: StorePartial,
+  layout: SiteLayout & { siteCharges: Float64Array },
+  ctx: PassContext,
+  opts: ConductivityOptions,
+  msd?: MsdResult,
+): ConductivityResult {
+  const dt = requireFrameInterval(ctx);
+  const T = store.frames;
+  const temp = opts.temperature;
+  if (!(temp > 0)) throw new UsageError('conductivity needs a positive --temperature');
+  const view = new StoreView(store);
+  const V = view.meanVolume();
+  if (V === null) throw new UsageError('conductivity needs the cell volume and the file has no cell: give --box');
+  const q = layout.siteCharges;
+  const notes: string[] = [];
+  let net = 0;
+  for (const x of q) net += x;
+  if (Math.abs(net) > 1e-6) {
+    const w = `the charged sites are not neutral (net charge ${chargeText(net)} e): the Einstein–Helfand dipole depends on the drift treatment`;
+    notes.push(w);
+    ctx.warnings.push(w);
+  }
+  const m =
+    msd ??
+    analyseMsd(store, layout, ctx, {
+      fitFrom: opts.fitFrom,
+      fitTo: opts.fitTo,
+      tolerance: opts.tolerance,
+      maxFraction: opts.maxFraction,
+      segments: opts.segments,
+      nonGaussian: false,
+    });
+  const species: ConductivitySpecies[] = layout.groups.map((g, i) => {
+    const r = m.groups[i];
+    return {
+      label: g.label,
+      count: g.sites.length,
+      charge: g.charge ?? 0,
+      diffusion: r.diffusion,
+      fit: { from: r.fit.from, to: r.fit.to },
+      converged: r.converged,
+      notes: r.notes,
+    };
+  });
+  const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
+  const neValue = nernstEinsteinConductivity(neInput, V, temp);
+  const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
+  const neUnc = allUnc
+    ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
+    : null;
+  const nernstEinstein = quantity(neValue, neUnc, 'S/m');
+  if (!allUnc) notes.push('some species D has no uncertainty: the Nernst–Einstein value has none');
+
+  // Einstein–Helfand.
+  const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, opts.maxFraction ?? DEFAULT_MAX_FRACTION), opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0));
+  const ehCurve = collectiveMsd(view, q, 0, T, maxLag);
+  const sf = fitSlopeWithSegments(ehCurve, dt, T, opts, (start, count, lag) => collectiveMsd(view, q, start, count, lag));
+  const ehValue = einsteinHelfandFromSlope(sf.slope, V, temp);
+  const ehUnc = sf.slopeError === null ? null : einsteinHelfandFromSlope(sf.slopeError, V, temp);
+  const einsteinHelfand = quantity(ehValue, ehUnc, 'S/m');
+  notes.push(...sf.notes.map((n) => `Einstein–Helfand: ${n}`));
+
+  // Green–Kubo.
+  let greenKubo: Quantity | null = null;
+  let gkPlateau: ConductivityResult['greenKuboPlateau'] = null;
+  let gkRunning: Float64Array | null = null;
+  let gkConverged = true;
+  if ((opts.greenKubo ?? true) && velocitySourceOf(store) === 'file') {
+    const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
+    gkRunning = toSigma(currentAutocorrelation(view, q, 0, T, maxLag));
+    const pw = plateauWithSegments(gkRunning, T, opts, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
+    greenKubo = quantity(pw.value, pw.error, 'S/m');
+    gkPlateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
+    gkConverged = pw.converged;
+    notes.push(...pw.notes.map((n) => `Green–Kubo: ${n}`));
+  } else if (opts.greenKubo ?? true) {
+    notes.push('Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)');
+  }
+
+  const ionicity = ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1');
+  let havenRatio: Quantity | null = null;
+  if (ehValue > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1');
+  else notes.push('Einstein–Helfand conductivity is not positive: no Haven ratio');
+
+  let cations = 0;
+  for (const x of q) if (x > 0) cations++;
+  let concentration: Quantity | null = null;
+  let molar: Quantity | null = null;
+  if (cations > 0) {
+    const c = concentrationMolPerM3(cations, V);
+    concentration = quantity(c / 1000, null, 'mol/L');
+    molar = quantity(ehValue / c, ehUnc === null ? null : ehUnc / c, 'S m^2/mol');
+  } else notes.push('no positive sites: no salt concentration and no molar conductivity');
+
+  const converged = sf.converged && gkConverged && species.every((s) => s.converged);
+  return {
+    nernstEinstein,
+    einsteinHelfand,
+    greenKubo,
+    ionicity,
+    havenRatio,
+    molarConductivity: molar,
+    concentration,
+    fit: { from: sf.from, to: sf.to, points: sf.points, automatic: sf.automatic },
+    greenKuboPlateau: gkPlateau,
+    species,
+    volume: quantity(V, null, 'A^3'),
+    temperature: quantity(temp, null, 'K'),
+    netCharge: net,
+    converged,
+    notes,
+    curves: {
+      time: Float64Array.from(ehCurve, (_, k) => k * dt),
+      collectiveMsd: ehCurve,
+      greenKuboRunning: gkRunning,
+    },
+    frames: T,
+    frameInterval: dt,
+    driftRemoved: store.com !== null,
+    driftNote: driftDescription(store, ctx.topology),
+    bytesHeld: storeBytes(store),
+    rules: {
+      window: windowRuleText(opts),
+      uncertainty: uncertaintyRuleText(opts),
+      concentration: 'salt concentration c = (number of positive sites)/(N_A <V>): the salt concentration of a 1:1 salt',
+      ratios:
+        'ionicity = σ_EH/σ_NE, Haven ratio = σ_NE/σ_EH; first-order uncertainties treating both as independent (an upper estimate: they are positively correlated)',
+    },
+  };
+}
+
+/** Options of the conductivity pass. */
+export interface ConductivityPassOptions extends ConductivityOptions {
+  /** Charge rules (parseChargeRules), or null to use the file's formal charges. */
+  charges: ChargeRule[] | null;
+  molecules?: boolean;
+  keepDrift?: boolean;
+}
+
+/** Layout spec of the conductivity sites for the pass options. */
+export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean }): (t: Topology) => SiteLayout & { siteCharges: Float64Array } {
+  return (t) => chargeLayout(t, atomCharges(t, opts.charges), !!opts.molecules);
+}
+
+/** The conductivity Pass: one coordinate store, finished by `analyseConductivity`. */
+export function conductivityPass(opts: ConductivityPassOptions): Pass<StorePartial, ConductivityResult> {
+  const layout = conductivityLayout(opts);
+  const spec: LayoutSpec = layout;
+  const store = storePass({ layout: spec, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
+  return {
+    name: 'conductivity',
+    create: store.create,
+    merge: store.merge,
+    finish: (p, ctx) => analyseConductivity(p, layout(ctx.topology), ctx, opts),
+  };
+}

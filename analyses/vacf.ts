@@ -1,0 +1,330 @@
+/**
+ * Velocity autocorrelation function (VACF), the Green–Kubo self-diffusion coefficient from its
+ * running integral, and the vibrational density of states (its cosine transform).
+ *
+ * C(t) = ⟨v(0)·v(t)⟩ averaged over the sites of a group and over all time origins (FFT,
+ * src/correlate.ts), in Å²/ps², summed over the analysed components (3, or 2 with a plane).
+ * D(t) = (1/d) ∫₀ᵗ C(t') dt' by the trapezoid rule (Green, J. Chem. Phys. 22, 398 (1954); Kubo,
+ * J. Phys. Soc. Jpn. 12, 570 (1957)); D is the mean of D(t) over the plateau window of
+ * src/fit.ts (`plateauWindow`), and its uncertainty the standard error over independent segments.
+ * Lags are analysed up to half the run (the same f_max rule as the MSD).
+ *
+ * Velocities come from the file when every frame has them; otherwise from central differences of
+ * the unwrapped, drift-corrected positions, v(t) = [r(t+Δt) − r(t−Δt)]/(2Δt), at the interior
+ * frames only (a warning says so: the difference smooths motion faster than Δt, so C(0) and the
+ * high-frequency spectrum are underestimated when Δt is not small against the vibrations).
+ *
+ * Spectrum: S(ν) = 2∫₀^{t_max} C(t) w(t) cos(2πνt) dt with the Hann taper w(t) = cos²(πt/(2 t_max))
+ * (the decaying half of a Hann window; Harris, Proc. IEEE 66, 51 (1978)), evaluated by FFT of the
+ * even extension; ν in THz (1/ps) and in cm⁻¹ (ν̃ = ν/c: 1 THz = 33.35641 cm⁻¹). S(0)/(2d) is the
+ * tapered D. The power spectrum of the VACF as the vibrational density of states: Dickey & Paskin,
+ * Phys. Rev. 188, 1407 (1969) (from memory).
+ */
+import FFT from 'fft.js';
+import type { Pass, PassContext, Quantity } from '../src/types.js';
+import { quantity } from '../src/types.js';
+import { sumOfAutocorrelations, nextPowerOfTwo } from '../src/correlate.js';
+import { AnalysisError } from '../src/errors.js';
+import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
+import {
+  blockStatistics,
+  cumulativeTrapezoid,
+  maxLagIndex,
+  plateauWindow,
+  windowMean,
+  DEFAULT_MAX_FRACTION,
+  DEFAULT_PLATEAU_SPAN,
+  DEFAULT_PLATEAU_TOLERANCE,
+  DEFAULT_SEGMENTS,
+  MIN_PLATEAU_POINTS,
+  MIN_SEGMENTS,
+  type LagWindow,
+} from '../src/fit.js';
+import {
+  StoreView,
+  gatherSeries,
+  planeComponents,
+  requireFrameInterval,
+  speciesLayout,
+  storeBytes,
+  storePass,
+  driftDescription,
+  type LayoutSpec,
+  type SiteLayout,
+  type SpeciesLayoutOptions,
+  type StorePartial,
+} from './msd.js';
+
+/** cm⁻¹ per THz: 1e12 Hz / (c · 100 cm/m) = 33.35641 (c exact, SI). */
+export const WAVENUMBER_PER_THZ = 1e12 / (SPEED_OF_LIGHT * 100);
+
+/** Where the velocities come from. */
+export type VelocitySource = 'file' | 'central differences';
+
+/** Velocity source of a store: the file's when every frame had velocities. */
+export function velocitySourceOf(store: StorePartial): VelocitySource {
+  return store.velocityChunks !== null ? 'file' : 'central differences';
+}
+
+/** Number of velocity samples: T from the file, T − 2 from central differences. */
+export function velocityFrames(store: StorePartial): number {
+  return velocitySourceOf(store) === 'file' ? store.frames : store.frames - 2;
+}
+
+/**
+ * Velocity series of sites over velocity samples [from, from+count): from the stored velocities
+ * (minus the centre-of-mass velocity when drift is removed), or by central differences
+ * v(t) = [r(t+1) − r(t−1)]/(2Δt) of drift-corrected positions, sample t being frame t+1.
+ */
+export function gatherVelocities(
+  view: StoreView,
+  sites: ArrayLike<number>,
+  comps: readonly number[],
+  from: number,
+  count: number,
+  dt: number,
+  out: Float64Array[],
+): void {
+  const store = view.store;
+  if (velocitySourceOf(store) === 'file') {
+    gatherSeries(view, sites, comps, from, count, store.comVelocity, out, true);
+    return;
+  }
+  // Positions of frames from … from+count+1 (sample t ↔ frame t+1).
+  const pos = out.map(() => new Float64Array(count + 2));
+  gatherSeries(view, sites, comps, from, count + 2, store.com, pos);
+  const inv = 1 / (2 * dt);
+  pos.forEach((p, j) => {
+    const o = out[j];
+    for (let t = 0; t < count; t++) o[t] = (p[t + 2] - p[t]) * inv;
+  });
+}
+
+/**
+ * VACF of a group, C(m) = (1/N) Σ_sites Σ_comps ⟨v_c(t) v_c(t+m)⟩_t over velocity samples
+ * [from, from+count), m = 0 … maxLag (Å²/ps²), all time origins by FFT (src/correlate.ts).
+ */
+export function groupVacf(
+  view: StoreView,
+  sites: Int32Array,
+  comps: readonly number[],
+  from: number,
+  count: number,
+  maxLag: number,
+  dt: number,
+): Float64Array {
+  const result = new Float64Array(maxLag + 1);
+  const nc = comps.length;
+  const B = Math.max(1, Math.min(64, Math.floor(16e6 / (8 * nc * Math.max(1, count)))));
+  const buffers = Array.from({ length: Math.min(B, sites.length) * nc }, () => new Float64Array(count));
+  for (let i0 = 0; i0 < sites.length; i0 += B) {
+    const block = sites.subarray(i0, Math.min(sites.length, i0 + B));
+    const bufs = buffers.slice(0, block.length * nc);
+    gatherVelocities(view, block, comps, from, count, dt, bufs);
+    const c = sumOfAutocorrelations(bufs, { maxLag });
+    for (let m = 0; m <= maxLag; m++) result[m] += c[m];
+  }
+  for (let m = 0; m <= maxLag; m++) result[m] /= sites.length;
+  return result;
+}
+
+/**
+ * Hann-tapered cosine transform of a correlation function sampled every dt (ps):
+ * S(ν_k) = Δt [c₀w₀ + 2 Σ_{j≥1} c_j w_j cos(2π j k/N)], w_j = cos²(π j/(2M)) (M = c.length),
+ * ν_k = k/(NΔt) THz, k = 0 … N/2, N = the power of two ≥ 2M (zero padding interpolates).
+ * This is the trapezoid rule for 2∫₀^{t_max} c(t) w(t) cos(2πνt) dt (w vanishes at t_max = MΔt).
+ * Window: Harris, Proc. IEEE 66, 51 (1978). Units: those of c times ps.
+ */
+export function cosineSpectrum(c: ArrayLike<number>, dt: number): { frequencyTHz: Float64Array; intensity: Float64Array } {
+  const M = c.length;
+  const N = nextPowerOfTwo(2 * M);
+  const a = new Float64Array(N);
+  for (let j = 0; j < M; j++) {
+    const w = Math.cos((Math.PI * j) / (2 * M)) ** 2;
+    a[j] = c[j] * w;
+    if (j > 0) a[N - j] = a[j];
+  }
+  const fft = new FFT(N);
+  const out = new Float64Array(2 * N);
+  fft.realTransform(out, a);
+  const K = N / 2 + 1;
+  const frequencyTHz = new Float64Array(K);
+  const intensity = new Float64Array(K);
+  for (let k = 0; k < K; k++) {
+    frequencyTHz[k] = k / (N * dt);
+    intensity[k] = dt * out[2 * k];
+  }
+  return { frequencyTHz, intensity };
+}
+
+/** Options of the VACF analysis. */
+export interface VacfOptions {
+  plane?: string;
+  segments?: number;
+  /** Plateau rule (src/fit.ts). */
+  plateauTolerance?: number;
+  plateauSpan?: number;
+  maxFraction?: number;
+}
+
+/** VACF result of one group. */
+export interface VacfGroupResult {
+  label: string;
+  count: number;
+  /** Lags, ps. */
+  time: Float64Array;
+  /** C(t), Å²/ps². */
+  vacf: Float64Array;
+  /** C(t)/C(0). */
+  normalized: Float64Array;
+  /** D(t) = (1/d)∫C, m²/s. */
+  runningIntegral: Float64Array;
+  plateau: { from: number; to: number; found: boolean };
+  diffusion: Quantity;
+  segmentDiffusion: number[];
+  converged: boolean;
+  notes: string[];
+  spectrum: { frequencyTHz: Float64Array; wavenumber: Float64Array; intensity: Float64Array; unit: string };
+}
+
+/** VACF result. */
+export interface VacfResult {
+  groups: VacfGroupResult[];
+  velocitySource: VelocitySource;
+  dimensions: number;
+  frames: number;
+  frameInterval: number;
+  driftRemoved: boolean;
+  driftNote: string;
+  bytesHeld: number;
+  rules: { plateau: string; uncertainty: string; spectrum: string };
+}
+
+/**
+ * Plateau and segment uncertainty of a running integral. The run of `samples` samples is cut
+ * into M segments (default 5, reduced to no fewer than MIN_SEGMENTS when a segment would be too
+ * short); the plateau is searched (src/fit.ts `plateauWindow`) among the lags a segment can hold
+ * under the f_max rule, so that every segment can be evaluated over the same window. The value is
+ * the mean of the full-run integral over the window, its uncertainty the standard error of the
+ * segment means (Frenkel & Smit, 2nd ed., §4.4.1). `segmentIntegral(start, count, maxLag)` gives
+ * a segment's running integral.
+ */
+export function plateauWithSegments(
+  integral: Float64Array,
+  samples: number,
+  opts: { plateauTolerance?: number; plateauSpan?: number; segments?: number; maxFraction?: number },
+  segmentIntegral: (start: number, count: number, maxLag: number) => Float64Array,
+): { window: LagWindow; found: boolean; value: number; segmentValues: number[]; error: number | null; segments: number; converged: boolean; notes: string[] } {
+  const notes: string[] = [];
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
+  let M = 0;
+  let last = integral.length - 1;
+  for (let m = want; m >= Math.min(want, MIN_SEGMENTS); m--) {
+    const cap = Math.min(integral.length - 1, maxLagIndex(Math.floor(samples / m), f));
+    if (cap >= 3 * MIN_PLATEAU_POINTS) {
+      M = m;
+      last = cap;
+      if (m !== want) notes.push(`${m} segments instead of ${want}: segments of ${want} would be too short`);
+      break;
+    }
+  }
+  if (M === 0) notes.push(`not converged: the run is too short for ${Math.min(want, MIN_SEGMENTS)} independent segments; no uncertainty`);
+  const w = plateauWindow(integral, { tolerance: opts.plateauTolerance, spanFraction: opts.plateauSpan, last });
+  if (!w.found && w.reason) notes.push(`not converged: ${w.reason}`);
+  const window = { from: w.from, to: w.to };
+  const value = windowMean(integral, window);
+  const segmentValues: number[] = [];
+  let error: number | null = null;
+  if (M > 0) {
+    const L = Math.floor(samples / M);
+    for (let k = 0; k < M; k++) segmentValues.push(windowMean(segmentIntegral(k * L, L, window.to), window));
+    error = blockStatistics(segmentValues).standardError;
+  }
+  return { window, found: w.found, value, segmentValues, error, segments: M, converged: w.found && M > 0, notes };
+}
+
+/** The VACF analysis on a finished store (see the module comment). */
+export function analyseVacf(store: StorePartial, layout: SiteLayout, ctx: PassContext, opts: VacfOptions = {}): VacfResult {
+  const dt = requireFrameInterval(ctx);
+  const comps = planeComponents(opts.plane);
+  const dims = comps.length;
+  const source = velocitySourceOf(store);
+  const Tv = velocityFrames(store);
+  if (Tv < 4 * MIN_PLATEAU_POINTS) throw new AnalysisError(`only ${Tv} velocity samples: the VACF needs at least ${4 * MIN_PLATEAU_POINTS}`);
+  if (source === 'central differences') {
+    ctx.warnings.push(
+      (store.velocitiesMissing ? 'some frames carry no velocities: ' : 'the file carries no velocities: ') +
+        `velocities are central differences of positions ${dt} ps apart, at interior frames only; ` +
+        'motion faster than the frame interval is smoothed away (C(0) and the high-frequency spectrum are underestimated)',
+    );
+  }
+  const view = new StoreView(store);
+  const maxLag = maxLagIndex(Tv, opts.maxFraction ?? DEFAULT_MAX_FRACTION);
+  const toD = A2_PER_PS / dims;
+  const groups: VacfGroupResult[] = [];
+  for (const g of layout.groups) {
+    const c = groupVacf(view, g.sites, comps, 0, Tv, maxLag, dt);
+    const running = cumulativeTrapezoid(c, dt).map((x) => x * toD);
+    const pw = plateauWithSegments(running, Tv, opts, (start, count, lag) =>
+      cumulativeTrapezoid(groupVacf(view, g.sites, comps, start, count, lag, dt), dt).map((x) => x * toD),
+    );
+    const spec = cosineSpectrum(c, dt);
+    const notes = [...pw.notes];
+    if (!(c[0] > 0)) notes.push('not converged: C(0) is not positive (no motion)');
+    groups.push({
+      label: g.label,
+      count: g.sites.length,
+      time: Float64Array.from(c, (_, k) => k * dt),
+      vacf: c,
+      normalized: c.map((x) => x / c[0]),
+      runningIntegral: running,
+      plateau: { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found },
+      diffusion: quantity(pw.value, pw.error, 'm^2/s'),
+      segmentDiffusion: pw.segmentValues,
+      converged: pw.converged && c[0] > 0,
+      notes,
+      spectrum: {
+        frequencyTHz: spec.frequencyTHz,
+        wavenumber: spec.frequencyTHz.map((f) => f * WAVENUMBER_PER_THZ),
+        intensity: spec.intensity,
+        unit: 'A^2/ps',
+      },
+    });
+  }
+  return {
+    groups,
+    velocitySource: source,
+    dimensions: dims,
+    frames: store.frames,
+    frameInterval: dt,
+    driftRemoved: store.com !== null,
+    driftNote: driftDescription(store, ctx.topology),
+    bytesHeld: storeBytes(store),
+    rules: {
+      plateau:
+        `earliest window of ${Math.round(100 * (opts.plateauSpan ?? DEFAULT_PLATEAU_SPAN))}% of the lags a segment holds (at least ${MIN_PLATEAU_POINTS}; ` +
+        `searched up to half a segment so that every segment covers it) ` +
+        `over which the running integral changes by at most ±${100 * (opts.plateauTolerance ?? DEFAULT_PLATEAU_TOLERANCE)}% of its value at the window start; D = its mean there`,
+      uncertainty: `standard error over ${opts.segments ?? DEFAULT_SEGMENTS} independent segments, SD/√M, same window (Frenkel & Smit, 2nd ed., §4.4.1)`,
+      spectrum: 'S(ν) = 2∫C(t)w(t)cos(2πνt)dt with the Hann taper w = cos²(πt/(2 t_max)); S(0)/(2d) is the tapered D',
+    },
+  };
+}
+
+/** Options of the VACF pass. */
+export interface VacfPassOptions extends VacfOptions, SpeciesLayoutOptions {
+  keepDrift?: boolean;
+}
+
+/** The VACF Pass: stores positions and velocities, finishes with `analyseVacf`. */
+export function vacfPass(opts: VacfPassOptions = {}): Pass<StorePartial, VacfResult> {
+  const layout: LayoutSpec = (t) => speciesLayout(t, opts);
+  const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: true });
+  return {
+    name: 'vacf',
+    create: store.create,
+    merge: store.merge,
+    finish: (p, ctx) => analyseVacf(p, layout(ctx.topology), ctx, opts),
+  };
+}

@@ -1,0 +1,153 @@
+/**
+ * `sojourn diffusion FILE`: the self-diffusion coefficient of each species two ways from one
+ * read of the trajectory — the MSD slope (Einstein) and the VACF plateau (Green–Kubo) — side by
+ * side, flagged when they disagree by more than DISAGREEMENT_FACTOR combined standard errors.
+ */
+import type { Command } from 'commander';
+import { analyseMsd, speciesLayout, storePass, type MsdResult } from '../../analyses/msd.js';
+import { analyseVacf, type VacfResult } from '../../analyses/vacf.js';
+import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
+import {
+  addPlateauOptions,
+  addSiteOptions,
+  addWindowOptions,
+  dTable,
+  msdOptionsFrom,
+  plateauOptions,
+  siteOptions,
+  type PlateauCliOptions,
+  type SiteCliOptions,
+  type WindowCliOptions,
+} from './msd.js';
+import { finishPasses } from '../runner.js';
+import { formatSig, formatTable } from '../output.js';
+import { quantity, type Quantity } from '../types.js';
+import type { StorePartial } from '../../analyses/msd.js';
+import { CAUTION } from '../caution.js';
+
+/** Two estimates disagree when |D1 − D2| > DISAGREEMENT_FACTOR · √(σ1² + σ2²). */
+export const DISAGREEMENT_FACTOR = 2;
+
+/** Comparison of two estimates of one quantity. */
+export interface Agreement {
+  difference: Quantity;
+  /** |D1 − D2| / √(σ1² + σ2²), or null when an uncertainty is missing. */
+  sigmas: number | null;
+  agree: boolean | null;
+}
+
+/**
+ * Compare two independent estimates: Δ = D1 − D2 with σ_Δ = √(σ1² + σ2²) (JCGM 100:2008, eq. 10,
+ * uncorrelated inputs); they agree when |Δ| ≤ DISAGREEMENT_FACTOR·σ_Δ (a two-sided test at about
+ * 95 % for Gaussian errors; common practice, no source). Unknown when an uncertainty is missing.
+ */
+export function compareEstimates(a: Quantity, b: Quantity): Agreement {
+  const diff = a.value - b.value;
+  if (a.uncertainty === null || b.uncertainty === null) return { difference: quantity(diff, null, a.unit), sigmas: null, agree: null };
+  const s = Math.hypot(a.uncertainty, b.uncertainty);
+  const sigmas = s > 0 ? Math.abs(diff) / s : diff === 0 ? 0 : Infinity;
+  return { difference: quantity(diff, s, a.unit), sigmas, agree: sigmas <= DISAGREEMENT_FACTOR };
+}
+
+interface DiffusionCliOptions extends TrajectoryOptions, SiteCliOptions, WindowCliOptions, PlateauCliOptions {
+  viscosity?: string;
+  temperature?: string;
+  alpha2?: boolean;
+}
+
+/** The side-by-side comparison per species. */
+export interface DiffusionComparison {
+  label: string;
+  count: number;
+  msd: { diffusion: Quantity; fit: { from: number; to: number }; converged: boolean };
+  vacf: { diffusion: Quantity; plateau: { from: number; to: number; found: boolean }; converged: boolean };
+  comparison: Agreement;
+}
+
+/** Results of the diffusion command. */
+export interface DiffusionResult {
+  groups: DiffusionComparison[];
+  disagreementRule: string;
+  msd: MsdResult;
+  vacf: VacfResult;
+}
+
+/** Pair the MSD and VACF groups (same layout, same order) and compare them. */
+export function compareDiffusion(msd: MsdResult, vacf: VacfResult): DiffusionComparison[] {
+  return msd.groups.map((g, i) => {
+    const v = vacf.groups[i];
+    return {
+      label: g.label,
+      count: g.count,
+      msd: { diffusion: g.diffusion, fit: { from: g.fit.from, to: g.fit.to }, converged: g.converged },
+      vacf: { diffusion: v.diffusion, plateau: v.plateau, converged: v.converged },
+      comparison: compareEstimates(g.diffusion, v.diffusion),
+    };
+  });
+}
+
+/** Human-readable report. */
+export function renderDiffusion(file: string, r: DiffusionResult): string {
+  const out: string[] = [];
+  out.push(`${file}: self-diffusion from the MSD (Einstein) and the VACF (Green–Kubo), ${r.msd.frames} frames every ${formatSig(r.msd.frameInterval, 6)} ps`);
+  out.push(
+    formatTable(
+      ['group', 'sites', 'D MSD (10⁻⁹ m²/s)', 'window (ps)', 'D VACF (10⁻⁹ m²/s)', 'plateau (ps)', 'difference', 'verdict'],
+      r.groups.map((g) => [
+        g.label,
+        String(g.count),
+        dTable(g.msd.diffusion) + (g.msd.converged ? '' : ' *'),
+        `${formatSig(g.msd.fit.from, 4)}–${formatSig(g.msd.fit.to, 4)}`,
+        dTable(g.vacf.diffusion) + (g.vacf.converged ? '' : ' *'),
+        `${formatSig(g.vacf.plateau.from, 4)}–${formatSig(g.vacf.plateau.to, 4)}${g.vacf.plateau.found ? '' : ' (none)'}`,
+        g.comparison.sigmas === null ? '—' : `${formatSig(g.comparison.sigmas, 2)} σ`,
+        g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
+      ]),
+    ),
+  );
+  if (r.groups.some((g) => !g.msd.converged || !g.vacf.converged)) out.push('* not converged: see the notes below');
+  out.push('');
+  out.push(`comparison: ${r.disagreementRule}`);
+  out.push(`MSD window: ${r.msd.rules.window}; ${r.msd.rules.uncertainty}`);
+  out.push(`VACF plateau: ${r.vacf.rules.plateau}; velocities from ${r.vacf.velocitySource}`);
+  out.push(`drift: ${r.msd.driftNote}`);
+  for (const g of r.msd.groups) for (const n of g.notes) out.push(`${g.label} (MSD): ${n}`);
+  for (const g of r.vacf.groups) for (const n of g.notes) out.push(`${g.label} (VACF): ${n}`);
+  out.push('');
+  out.push(CAUTION);
+  return out.join('\n');
+}
+
+/** Register the command on the program (src/commands/index.ts). */
+export function register(program: Command): void {
+  const cmd = program
+    .command('diffusion <file>')
+    .description('self-diffusion per species from the MSD and from the VACF in one read, side by side, with a disagreement flag');
+  addSiteOptions(cmd);
+  addWindowOptions(cmd);
+  addPlateauOptions(cmd, false);
+  cmd
+    .option('--viscosity <eta>', 'solvent viscosity for the Yeh–Hummer correction of the MSD value (with --temperature)')
+    .option('--temperature <T>', 'temperature for the Yeh–Hummer correction')
+    .option('--no-alpha2', 'skip the non-Gaussian parameter');
+  addTrajectoryOptions(cmd).action(async (file: string, opts: DiffusionCliOptions) => {
+    const warnings: string[] = [];
+    const mo = msdOptionsFrom(opts);
+    const po = plateauOptions(opts);
+    const so = siteOptions(opts);
+    const layoutSpec = (t: Parameters<typeof speciesLayout>[0]) => speciesLayout(t, so);
+    const pass = storePass({ layout: layoutSpec, removeDrift: !so.keepDrift, keepVelocities: true });
+    const run = await runOnTrajectory(file, opts, [pass], warnings);
+    const store = finishPasses([pass], run.partials, run.ctx).store as StorePartial;
+    const layout = layoutSpec(run.ctx.topology);
+    const msd = analyseMsd(store, layout, run.ctx, mo);
+    const vacf = analyseVacf(store, layout, run.ctx, { ...po, plane: so.plane });
+    const results: DiffusionResult = {
+      groups: compareDiffusion(msd, vacf),
+      disagreementRule: `flagged when |D_MSD − D_VACF| > ${DISAGREEMENT_FACTOR}·√(σ_MSD² + σ_VACF²)`,
+      msd,
+      vacf,
+    };
+    emit('diffusion', opts, [run.input], { ...opts }, results, warnings, () => renderDiffusion(file, results));
+  });
+}

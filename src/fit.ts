@@ -1,0 +1,364 @@
+/**
+ * Straight-line fits and the fit-window rules used by every transport coefficient that comes
+ * from the slope of a mean-squared-displacement-like curve (MSD, Einstein–Helfand), plus the
+ * block (independent segment) standard error that gives those coefficients their uncertainty.
+ *
+ * Rules, stated once here and repeated in the outputs:
+ * - Diffusive window (automatic): among the lags 1 … ⌊f_max·(T−1)⌋ (f_max = 0.5 by default: past
+ *   half the run the average rests on fewer time origins than the lag itself), the local
+ *   log-log slope β(t) = d ln y / d ln t is evaluated between the lags t/1.25 and 1.25·t; the
+ *   window is the longest contiguous run of lags with |β − 1| ≤ tol (tol = 0.1 by default),
+ *   earliest on ties. This skips the ballistic start (β ≈ 2) and stops where noise at long lags
+ *   throws the slope off. A window with fewer than MIN_WINDOW_POINTS lags counts as not found.
+ * - Segments: the run is cut into M independent, equally long segments (M = 5 by default); the
+ *   coefficient is computed in each over the same window, and its standard error is SD/√M
+ *   (standard error over independent blocks: Frenkel & Smit, Understanding Molecular
+ *   Simulation, 2nd ed. (2002), §4.4.1; Flyvbjerg & Petersen, J. Chem. Phys. 91, 461 (1989)).
+ *   The window must fit inside a segment under the same f_max rule; if it does not, an automatic
+ *   window is shrunk, then M is reduced (never below MIN_SEGMENTS = 3); otherwise no
+ *   uncertainty is given and the result is flagged not converged.
+ */
+import { UsageError } from './errors.js';
+
+/** Default tolerance on |d ln y/d ln t − 1| for the automatic diffusive window. */
+export const DEFAULT_SLOPE_TOLERANCE = 0.1;
+/** Default largest lag of an automatic window, as a fraction of the run (or segment) length. */
+export const DEFAULT_MAX_FRACTION = 0.5;
+/** Default number of independent segments for the uncertainty. */
+export const DEFAULT_SEGMENTS = 5;
+/** Fewest independent segments that still give an uncertainty. */
+export const MIN_SEGMENTS = 3;
+/** Fewest lags a fit window must hold. */
+export const MIN_WINDOW_POINTS = 8;
+/** Ratio between the two lags the local log-log slope is taken between (t/r and r·t). */
+export const LOG_SLOPE_STENCIL = 1.25;
+
+/** Result of a straight-line fit y = intercept + slope·x. */
+export interface LineFit {
+  slope: number;
+  intercept: number;
+  /** Standard error of the slope (from the residuals, or from the weights). */
+  slopeError: number;
+  interceptError: number;
+  /** Number of points used. */
+  points: number;
+}
+
+/**
+ * Least-squares line y = a + b x over the points i ∈ [from, to] (inclusive).
+ * Unweighted: b = S_xy/S_xx, a = ȳ − b x̄, s² = Σr²/(n−2), σ_b = s/√S_xx,
+ * σ_a = s √(1/n + x̄²/S_xx). Weighted (w_i = 1/σ_i²): Δ = S·S_xx − S_x², b = (S·S_xy − S_x S_y)/Δ,
+ * a = (S_xx S_y − S_x S_xy)/Δ, σ_b = √(S/Δ), σ_a = √(S_xx/Δ) (Press et al., Numerical Recipes,
+ * 3rd ed. (2007), §15.2). Needs at least 3 points (2 when weighted) and distinct x.
+ */
+export function fitLine(
+  x: ArrayLike<number>,
+  y: ArrayLike<number>,
+  opts: { from?: number; to?: number; weights?: ArrayLike<number> } = {},
+): LineFit {
+  const from = opts.from ?? 0;
+  const to = opts.to ?? x.length - 1;
+  const n = to - from + 1;
+  const w = opts.weights;
+  if (!(n >= (w ? 2 : 3))) throw new RangeError(`fitLine: need at least ${w ? 2 : 3} points, got ${n}`);
+  if (w) {
+    let s = 0, sx = 0, sy = 0, sxx = 0, sxy = 0;
+    for (let i = from; i <= to; i++) {
+      const wi = w[i];
+      s += wi;
+      sx += wi * x[i];
+      sy += wi * y[i];
+      sxx += wi * x[i] * x[i];
+      sxy += wi * x[i] * y[i];
+    }
+    const delta = s * sxx - sx * sx;
+    if (!(delta > 0)) throw new RangeError('fitLine: x values do not vary');
+    return {
+      slope: (s * sxy - sx * sy) / delta,
+      intercept: (sxx * sy - sx * sxy) / delta,
+      slopeError: Math.sqrt(s / delta),
+      interceptError: Math.sqrt(sxx / delta),
+      points: n,
+    };
+  }
+  let mx = 0, my = 0;
+  for (let i = from; i <= to; i++) {
+    mx += x[i];
+    my += y[i];
+  }
+  mx /= n;
+  my /= n;
+  let sxx = 0, sxy = 0;
+  for (let i = from; i <= to; i++) {
+    const dx = x[i] - mx;
+    sxx += dx * dx;
+    sxy += dx * (y[i] - my);
+  }
+  if (!(sxx > 0)) throw new RangeError('fitLine: x values do not vary');
+  const slope = sxy / sxx;
+  const intercept = my - slope * mx;
+  let rss = 0;
+  for (let i = from; i <= to; i++) {
+    const r = y[i] - intercept - slope * x[i];
+    rss += r * r;
+  }
+  const s2 = rss / (n - 2);
+  return {
+    slope,
+    intercept,
+    slopeError: Math.sqrt(s2 / sxx),
+    interceptError: Math.sqrt(s2 * (1 / n + (mx * mx) / sxx)),
+    points: n,
+  };
+}
+
+/**
+ * Local log-log slope β_i = [ln y(j₂) − ln y(j₁)] / [ln t(j₂) − ln t(j₁)] with
+ * j₁ = max(1, min(i−1, ⌊i/r⌋)) and j₂ = min(n−1, max(i+1, ⌈r·i⌉)), r = LOG_SLOPE_STENCIL
+ * (a centred difference on a logarithmic grid; common practice, no source). NaN at i = 0,
+ * where y or t is not positive, and where no distinct neighbours exist.
+ */
+export function logLogSlopes(time: ArrayLike<number>, y: ArrayLike<number>, stencil = LOG_SLOPE_STENCIL): Float64Array {
+  const n = Math.min(time.length, y.length);
+  const out = new Float64Array(n).fill(NaN);
+  for (let i = 1; i < n; i++) {
+    const j1 = Math.max(1, Math.min(i - 1, Math.floor(i / stencil)));
+    const j2 = Math.min(n - 1, Math.max(i + 1, Math.ceil(i * stencil)));
+    if (j2 <= j1) continue;
+    const y1 = y[j1], y2 = y[j2], t1 = time[j1], t2 = time[j2];
+    if (!(y1 > 0 && y2 > 0 && t1 > 0 && t2 > t1)) continue;
+    out[i] = Math.log(y2 / y1) / Math.log(t2 / t1);
+  }
+  return out;
+}
+
+/** A fit window as inclusive lag indices. */
+export interface LagWindow {
+  from: number;
+  to: number;
+}
+
+/** Outcome of the automatic window search. */
+export interface WindowChoice extends LagWindow {
+  /** True when a window satisfying the slope rule was found. */
+  found: boolean;
+  /** Why not, when not found. */
+  reason: string | null;
+}
+
+/** Options of the automatic window. */
+export interface WindowOptions {
+  tolerance?: number;
+  maxFraction?: number;
+  minPoints?: number;
+}
+
+/** Largest lag index allowed by the f_max rule for a series of `frames` frames: ⌊f_max (T−1)⌋. */
+export function maxLagIndex(frames: number, maxFraction = DEFAULT_MAX_FRACTION): number {
+  return Math.floor(maxFraction * (frames - 1));
+}
+
+/**
+ * Automatic diffusive window of an MSD-like curve y(t) (y ∝ t in the diffusive regime): the
+ * longest contiguous run of lags 1 … ⌊f_max (T−1)⌋ with |β − 1| ≤ tol, β from `logLogSlopes`
+ * (rule in the module comment; common practice, no source). `frames` is the run length T the
+ * curve was computed from (y may be shorter). When no run of at least `minPoints` lags
+ * exists, returns the fallback window [⌈cap/5⌉, cap] with found = false and the reason.
+ */
+export function diffusiveWindow(
+  time: ArrayLike<number>,
+  y: ArrayLike<number>,
+  frames: number,
+  opts: WindowOptions = {},
+): WindowChoice {
+  const tol = opts.tolerance ?? DEFAULT_SLOPE_TOLERANCE;
+  const minPoints = opts.minPoints ?? MIN_WINDOW_POINTS;
+  const cap = Math.min(maxLagIndex(frames, opts.maxFraction), Math.min(time.length, y.length) - 1);
+  if (cap < 2) {
+    return { from: 1, to: Math.max(1, cap), found: false, reason: `only ${frames} frames: no lags to fit` };
+  }
+  const beta = logLogSlopes(time, y);
+  let best: LagWindow | null = null;
+  let start = -1;
+  for (let i = 1; i <= cap + 1; i++) {
+    const ok = i <= cap && Math.abs(beta[i] - 1) <= tol;
+    if (ok && start < 0) start = i;
+    if (!ok && start >= 0) {
+      if (!best || i - 1 - start > best.to - best.from) best = { from: start, to: i - 1 };
+      start = -1;
+    }
+  }
+  if (best && best.to - best.from + 1 >= minPoints) return { ...best, found: true, reason: null };
+  const fallback = { from: Math.max(1, Math.ceil(cap / 5)), to: cap };
+  const longest = best ? best.to - best.from + 1 : 0;
+  return {
+    ...fallback,
+    found: false,
+    reason:
+      `no run of at least ${minPoints} lags where d ln MSD/d ln t stays within 1 ± ${tol} ` +
+      `(longest ${longest}); fitted over the fallback window (20–100% of the first ${Math.round(100 * (opts.maxFraction ?? DEFAULT_MAX_FRACTION))}% of the run)`,
+  };
+}
+
+/**
+ * Lag indices [from, to] of a user window given as times (ps) on a grid of spacing dt
+ * (t_k = k·dt): from = ⌈t_from/dt⌉, to = ⌊t_to/dt⌋ (with a 1e-9 relative allowance for round-off).
+ * A window outside 0 < t ≤ (T−1)·dt or with fewer than 3 lags is a usage error.
+ */
+export function windowFromTimes(fromPs: number, toPs: number, dt: number, frames: number): LagWindow {
+  if (!(toPs > fromPs)) throw new UsageError(`fit window: --fit-to (${toPs} ps) must be after --fit-from (${fromPs} ps)`);
+  const eps = 1e-9;
+  const from = Math.max(1, Math.ceil(fromPs / dt - eps));
+  const to = Math.floor(toPs / dt + eps);
+  const last = frames - 1;
+  if (to > last) {
+    throw new UsageError(`fit window: --fit-to ${toPs} ps is beyond the longest lag of the run (${last * dt} ps)`);
+  }
+  if (to - from + 1 < 3) {
+    throw new UsageError(`fit window ${fromPs}–${toPs} ps holds only ${Math.max(0, to - from + 1)} lag(s) of ${dt} ps; need at least 3`);
+  }
+  return { from, to };
+}
+
+/** Mean, sample standard deviation and standard error of independent block values. */
+export interface BlockStatistics {
+  mean: number;
+  sd: number;
+  /** sd/√n. */
+  standardError: number;
+  count: number;
+}
+
+/**
+ * Standard error over independent blocks: mean x̄ = Σx_k/M, s² = Σ(x_k − x̄)²/(M−1),
+ * SE = s/√M (Frenkel & Smit, Understanding Molecular Simulation, 2nd ed., §4.4.1). Needs M ≥ 2.
+ */
+export function blockStatistics(values: ArrayLike<number>): BlockStatistics {
+  const m = values.length;
+  if (m < 2) throw new RangeError(`blockStatistics: need at least 2 blocks, got ${m}`);
+  let s = 0;
+  for (let i = 0; i < m; i++) s += values[i];
+  const mean = s / m;
+  let ss = 0;
+  for (let i = 0; i < m; i++) ss += (values[i] - mean) ** 2;
+  const sd = Math.sqrt(ss / (m - 1));
+  return { mean, sd, standardError: sd / Math.sqrt(m), count: m };
+}
+
+/** How the run is cut into segments for the uncertainty, and the window they share. */
+export interface SegmentPlan {
+  /** Number of segments (0 when no plan works). */
+  segments: number;
+  /** Frames per segment ⌊T/M⌋ (the remainder at the end of the run is not used by segments). */
+  segmentFrames: number;
+  /** The window, possibly shrunk so that it fits in a segment. */
+  window: LagWindow;
+  /** True when the plan gives an uncertainty. */
+  ok: boolean;
+  /** What was changed, or why there is no uncertainty. */
+  notes: string[];
+}
+
+/**
+ * Choose the segments for a window (rule in the module comment): the window's last lag must be
+ * ≤ ⌊f_max (L−1)⌋ with L = ⌊T/M⌋ the segment length. Tried in order: M as asked; the window
+ * shrunk to that limit (automatic windows only, keeping ≥ minPoints lags); fewer segments down
+ * to MIN_SEGMENTS, then shrinking with those. Common practice, no source.
+ */
+export function planSegments(
+  frames: number,
+  window: LagWindow,
+  opts: { segments?: number; maxFraction?: number; minPoints?: number; mayShrink?: boolean } = {},
+): SegmentPlan {
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
+  const minPoints = opts.minPoints ?? MIN_WINDOW_POINTS;
+  const mayShrink = opts.mayShrink ?? true;
+  const limitFor = (m: number) => maxLagIndex(Math.floor(frames / m), f);
+  const lowest = Math.min(want, MIN_SEGMENTS);
+  for (let m = want; m >= lowest; m--) {
+    const limit = limitFor(m);
+    const notes: string[] = [];
+    if (m !== want) notes.push(`${m} segments instead of ${want}, so that the fit window fits in one`);
+    if (window.to <= limit) return { segments: m, segmentFrames: Math.floor(frames / m), window: { ...window }, ok: true, notes };
+    if (mayShrink && limit - window.from + 1 >= minPoints) {
+      notes.push(
+        `fit window end moved from lag ${window.to} to ${limit} so that it fits in a segment of ${Math.floor(frames / m)} frames`,
+      );
+      return { segments: m, segmentFrames: Math.floor(frames / m), window: { from: window.from, to: limit }, ok: true, notes };
+    }
+  }
+  return {
+    segments: 0,
+    segmentFrames: 0,
+    window: { ...window },
+    ok: false,
+    notes: [
+      `the fit window (lags ${window.from}–${window.to}) does not fit in ${lowest} independent segments of the run ` +
+        `(${frames} frames): no uncertainty can be given; run longer or fit an earlier window`,
+    ],
+  };
+}
+
+/** Default relative tolerance of the plateau rule. */
+export const DEFAULT_PLATEAU_TOLERANCE = 0.02;
+/** Default plateau span as a fraction of the analysed lags. */
+export const DEFAULT_PLATEAU_SPAN = 0.1;
+/** Fewest lags in a plateau span. */
+export const MIN_PLATEAU_POINTS = 5;
+
+/**
+ * Plateau of a running integral I(m), m = 0 … last: with the span S = max(MIN_PLATEAU_POINTS,
+ * round(spanFraction · last)), the plateau is the earliest window [i, i+S] (i ≥ 1) over which
+ * |I(j) − I(i)| ≤ tol·|I(i)| for every j in it (relative change below the tolerance over the span;
+ * tol = 0.02 and spanFraction = 0.1 by default; common practice, no source). When there is none,
+ * returns the last span [last−S, last] with found = false ("no plateau").
+ */
+export function plateauWindow(
+  values: ArrayLike<number>,
+  opts: { tolerance?: number; spanFraction?: number; last?: number } = {},
+): WindowChoice {
+  const tol = opts.tolerance ?? DEFAULT_PLATEAU_TOLERANCE;
+  const frac = opts.spanFraction ?? DEFAULT_PLATEAU_SPAN;
+  const last = Math.min(opts.last ?? values.length - 1, values.length - 1);
+  const span = Math.max(MIN_PLATEAU_POINTS, Math.round(frac * last));
+  if (last - span < 1) {
+    return { from: 1, to: Math.max(1, last), found: false, reason: `no plateau: only ${last} lags, fewer than a span of ${span} + 1` };
+  }
+  for (let i = 1; i + span <= last; i++) {
+    const ref = values[i];
+    if (!(Math.abs(ref) > 0)) continue;
+    const lim = tol * Math.abs(ref);
+    let ok = true;
+    for (let j = i + 1; j <= i + span; j++) {
+      if (!(Math.abs(values[j] - ref) <= lim)) {
+        ok = false;
+        break;
+      }
+    }
+    if (ok) return { from: i, to: i + span, found: true, reason: null };
+  }
+  return {
+    from: last - span,
+    to: last,
+    found: false,
+    reason: `no plateau: the running integral never stays within ±${tol * 100}% over a span of ${span} lags; the value is its mean over the last span`,
+  };
+}
+
+/** Mean of values[from..to] (inclusive). */
+export function windowMean(values: ArrayLike<number>, w: LagWindow): number {
+  let s = 0;
+  for (let i = w.from; i <= w.to; i++) s += values[i];
+  return s / (w.to - w.from + 1);
+}
+
+/**
+ * Cumulative trapezoid integral: I(0) = 0, I(m) = I(m−1) + Δt·(y(m−1) + y(m))/2 (trapezoidal rule,
+ * e.g. Press et al., Numerical Recipes, 3rd ed., §4.1).
+ */
+export function cumulativeTrapezoid(y: ArrayLike<number>, dt: number): Float64Array {
+  const out = new Float64Array(y.length);
+  for (let m = 1; m < y.length; m++) out[m] = out[m - 1] + 0.5 * dt * (y[m - 1] + y[m]);
+  return out;
+}
