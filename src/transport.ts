@@ -5,6 +5,9 @@
  * parameter name says otherwise (volumes in Å^3 and box lengths in Å, as elsewhere in sojourn).
  */
 import { BOLTZMANN, ELEMENTARY_CHARGE, FARADAY, GAS_CONSTANT, CUBIC_ANGSTROM, ANGSTROM } from './units.js';
+import { quantity, type Quantity } from './types.js';
+import { UsageError } from './errors.js';
+import { crystalRadius, SHANNON_RADII, type IonRadius } from './radii.js';
 
 /**
  * ξ of the cubic periodic lattice in the Yeh–Hummer correction, 2.837297 (Yeh & Hummer,
@@ -138,4 +141,119 @@ export function relativeErrorProduct(terms: readonly ProductTerm[]): number {
     sq += r * r;
   }
   return Math.sqrt(sq);
+}
+
+// ---------------------------------------------------------------------------------------------
+// Per-ion summary used by `sojourn stokes` and the report
+
+/** Input of `stokesSummary`: quantities in SI (D m^2/s, η Pa s, Λ S m^2/mol) and radius in Å. */
+export interface StokesInput {
+  /** Self-diffusion coefficient (m^2/s); give this or `radius`. */
+  diffusion?: Quantity | null;
+  /** Radius (Å) to turn into a diffusion coefficient; give this or `diffusion`. */
+  radius?: Quantity | null;
+  viscosity: Quantity;
+  temperatureK: number;
+  boundary: Boundary;
+  /** Ion name such as "Li+" (for the crystal radius and the charge), or null. */
+  species?: string | null;
+  /** Measured molar conductivity Λ (S m^2/mol), for the Walden product. */
+  molarConductivity?: Quantity | null;
+}
+
+/** What `stokesSummary` returns (JSON-ready). */
+export interface StokesResult {
+  hydrodynamicRadius: Quantity;
+  diffusion: Quantity;
+  viscosity: Quantity;
+  temperature: Quantity;
+  boundary: Boundary;
+  /** Which of radius and diffusion was computed from the other. */
+  computed: 'radius' | 'diffusion';
+  species: string | null;
+  crystalRadius: Quantity | null;
+  crystalRadiusSource: string | null;
+  /** r_H / r_crystal. */
+  radiusRatio: Quantity | null;
+  /** λ = z²F²D/(RT) from the diffusion coefficient (needs the species' charge), S m^2/mol. */
+  limitingMolarConductivity: Quantity | null;
+  /** Λ η from the given Λ, S m^2 Pa s/mol. */
+  waldenProduct: Quantity | null;
+  /** The same in S cm^2 mol^-1 P. */
+  waldenProductConventional: Quantity | null;
+}
+
+/** Uncertainty of x·Π factors from relative errors (null when every input is exact). */
+function propagate(value: number, terms: ProductTerm[]): number | null {
+  if (terms.every((t) => t.uncertainty === null)) return null;
+  return Math.abs(value) * relativeErrorProduct(terms);
+}
+
+/**
+ * Stokes–Einstein summary for one ion: r_H = k_B T/(c π η D) or D = k_B T/(c π η r), with
+ * first-order propagation of the uncertainties of D (or r) and η (GUM eq. 12); the Shannon
+ * radius and r_H/r_crystal when the ion is tabulated (src/radii.ts); λ = z²F²D/(RT) when the
+ * charge is known; the Walden product Λη when Λ is given. Sources at the functions used.
+ */
+export function stokesSummary(input: StokesInput): StokesResult {
+  const { viscosity: eta, temperatureK: T, boundary } = input;
+  const hasD = input.diffusion !== undefined && input.diffusion !== null;
+  const hasR = input.radius !== undefined && input.radius !== null;
+  if (hasD === hasR) throw new UsageError('give exactly one of a diffusion coefficient and a radius');
+  if (!(eta.value > 0)) throw new UsageError('the viscosity must be positive');
+  if (!(T > 0)) throw new UsageError('the temperature must be positive');
+  let D: Quantity;
+  let r: Quantity;
+  if (hasD) {
+    D = input.diffusion!;
+    if (!(D.value > 0)) throw new UsageError('the diffusion coefficient must be positive');
+    const rm = stokesEinsteinRadius(D.value, eta.value, T, boundary) / ANGSTROM;
+    r = quantity(rm, propagate(rm, [{ ...D, power: -1 }, { ...eta, power: -1 }]), 'A');
+  } else {
+    r = input.radius!;
+    if (!(r.value > 0)) throw new UsageError('the radius must be positive');
+    const d = stokesEinsteinDiffusion(r.value * ANGSTROM, eta.value, T, boundary);
+    D = quantity(d, propagate(d, [{ ...r, power: -1 }, { ...eta, power: -1 }]), 'm^2/s');
+  }
+  let crystal: IonRadius | null = null;
+  const species = input.species ?? null;
+  if (species !== null) {
+    crystal = crystalRadius(species);
+    if (crystal === null) {
+      throw new UsageError(`no tabulated Shannon radius for "${species}"; known ions: ${SHANNON_RADII.map((x) => x.name).join(', ')}`);
+    }
+  }
+  const ratio = crystal ? quantity(r.value / crystal.radiusA, r.uncertainty === null ? null : r.uncertainty / crystal.radiusA, '1') : null;
+  let lambda: Quantity | null = null;
+  if (crystal) {
+    const l = limitingMolarConductivity(crystal.charge, D.value, T);
+    lambda = quantity(l, propagate(l, [D]), 'S m^2/mol');
+  }
+  let walden: Quantity | null = null;
+  let waldenConv: Quantity | null = null;
+  const L = input.molarConductivity ?? null;
+  if (L !== null) {
+    const w = waldenProduct(L.value, eta.value);
+    walden = quantity(w, propagate(w, [L, eta]), 'S m^2 Pa s/mol');
+    waldenConv = quantity(
+      waldenToConventional(w),
+      walden.uncertainty === null ? null : waldenToConventional(walden.uncertainty),
+      'S cm^2 P/mol',
+    );
+  }
+  return {
+    hydrodynamicRadius: r,
+    diffusion: D,
+    viscosity: eta,
+    temperature: quantity(T, null, 'K'),
+    boundary,
+    computed: hasD ? 'radius' : 'diffusion',
+    species: crystal ? crystal.name : null,
+    crystalRadius: crystal ? quantity(crystal.radiusA, null, 'A') : null,
+    crystalRadiusSource: crystal ? crystal.note : null,
+    radiusRatio: ratio,
+    limitingMolarConductivity: lambda,
+    waldenProduct: walden,
+    waldenProductConventional: waldenConv,
+  };
 }

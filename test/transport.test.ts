@@ -15,7 +15,12 @@ import {
   waldenProduct,
   waldenToConventional,
   relativeErrorProduct,
+  stokesSummary,
 } from '../src/transport.js';
+import { crystalRadius, normaliseIonName } from '../src/radii.js';
+import { parseUncertainValue } from '../src/commands/stokes.js';
+import { UNIT_FACTORS } from '../src/units.js';
+import { UsageError } from '../src/errors.js';
 import { AVOGADRO } from '../src/units.js';
 import { Random } from '../src/random.js';
 
@@ -125,7 +130,7 @@ describe('Stokes–Einstein', () => {
     // D(Li+) = 1.029e-9 m^2/s (CRC infinite-dilution table, checked); η(water, 25 °C, 0.1 MPa)
     // = 0.8900 mPa s (IAPWS 2008 viscosity formulation, from memory: 890.0 μPa s).
     // Hand computation: k_B T = 1.380649e-23 × 298.15 = 4.116405e-21 J;
-    // 6π η D = 6 × 3.141593 × 0.8900e-3 × 1.029e-9 = 1.726263e-11 → r = 2.38458e-10 m.
+    // 6π η D = 6 × 3.141593 × 0.8900e-3 × 1.029e-9 = 1.726261e-11 → r = 2.38458e-10 m.
     const r = stokesEinsteinRadius(1.029e-9, 0.89e-3, T25, 'stick');
     // Tolerance: the hand computation was carried to 5 significant figures → 1e-4 relative.
     expect(rel(r * 1e10, 2.38458)).toBeLessThan(1e-4);
@@ -156,10 +161,10 @@ describe('Stokes–Einstein', () => {
 
   it('D from a radius reproduces the hand value for a 1 nm sphere in water', () => {
     // k_B T/(6π η r) at 298.15 K, η = 0.89e-3 Pa s, r = 1e-9 m:
-    // 4.116405e-21 / (6π × 0.89e-3 × 1e-9) = 4.116405e-21 / 1.677610e-11 = 2.45374e-10 m^2/s.
+    // 4.116405e-21 / (6π × 0.89e-3 × 1e-9) = 4.116405e-21 / 1.677610e-11 = 2.45373e-10 m^2/s.
     const D = stokesEinsteinDiffusion(1e-9, 0.89e-3, T25, 'stick');
     // Tolerance: hand computation carried to 6 significant figures → 2e-5 relative.
-    expect(rel(D, 2.45374e-10)).toBeLessThan(2e-5);
+    expect(rel(D, 2.45373e-10)).toBeLessThan(2e-5);
   });
 });
 
@@ -167,7 +172,7 @@ describe('yehHummerCorrection', () => {
   it('matches a hand computation for water-like η in a 40 Å box', () => {
     // ΔD = k_B T ξ / (6π η L), Yeh & Hummer, J. Phys. Chem. B 108, 15873 (2004), ξ = 2.837297.
     // T = 300 K, η = 0.85e-3 Pa s, L = 40e-10 m:
-    // k_B T = 4.141947e-21 J; × ξ = 1.175202e-20; 6π η L = 6.408849e-11 → ΔD = 1.83370e-10 m^2/s.
+    // k_B T = 4.141947e-21 J; × ξ = 1.175193e-20; 6π η L = 6.408849e-11 → ΔD = 1.83370e-10 m^2/s.
     const d = yehHummerCorrection(300, 0.85e-3, 40);
     // Tolerance: 6-figure hand arithmetic → 3e-5 relative.
     expect(rel(d, 1.8337e-10)).toBeLessThan(3e-5);
@@ -215,5 +220,81 @@ describe('relativeErrorProduct', () => {
     expect(rel(relativeErrorProduct([{ value: 1e-9, uncertainty: 3e-11, power: -1 }, { value: 1e-3, uncertainty: null }]), 0.03)).toBeLessThan(1e-12);
     // x² with 1 % gives 2 % (GUM eq. 12 with p = 2).
     expect(rel(relativeErrorProduct([{ value: 4, uncertainty: 0.04, power: 2 }]), 0.02)).toBeLessThan(1e-12);
+  });
+});
+
+describe('stokesSummary (one ion, with uncertainties)', () => {
+  it('Li+ in water: r_H, its propagated uncertainty, r_H/r_crystal, λ and the Walden product', () => {
+    // Inputs: D = (1.029 ± 0.020)e-9 m^2/s (CRC value, uncertainty invented for the test),
+    // η = 0.890 ± 0.010 mPa s, T = 298.15 K, Λ = 38.66 ± 0.30 S cm^2/mol.
+    const r = stokesSummary({
+      diffusion: { value: 1.029e-9, uncertainty: 0.02e-9, unit: 'm^2/s' },
+      viscosity: { value: 0.89e-3, uncertainty: 0.01e-3, unit: 'Pa s' },
+      temperatureK: T25,
+      boundary: 'stick',
+      species: 'li+',
+      molarConductivity: { value: 38.66e-4, uncertainty: 0.3e-4, unit: 'S m^2/mol' },
+    });
+    // r_H = 2.38458 Å (hand computation above); u_r/r = √((0.02/1.029)² + (0.01/0.89)²)
+    // = 0.022450 (GUM eq. 12) → u = 0.053535 Å. Tolerance: 5-figure hand arithmetic.
+    expect(rel(r.hydrodynamicRadius.value, 2.38458)).toBeLessThan(1e-4);
+    expect(rel(r.hydrodynamicRadius.uncertainty!, 0.053535)).toBeLessThan(1e-4);
+    // Shannon (1976) six-coordinate Li+ radius 0.76 Å; ratio 2.38458/0.76 = 3.13760.
+    expect(r.crystalRadius!.value).toBe(0.76);
+    expect(rel(r.radiusRatio!.value, 3.1376)).toBeLessThan(1e-4);
+    // λ from D: the CRC table pairs D = 1.029 with λ = 38.66 S cm^2/mol (rounding: 6e-4 rel).
+    expect(rel(r.limitingMolarConductivity!.value * 1e4, 38.66)).toBeLessThan(6.2e-4);
+    // Walden Λη = 38.66 × 0.00890 = 0.344074 S cm^2 mol^-1 P; u = 0.344074 ×
+    // √((0.30/38.66)² + (0.01/0.89)²) = 0.0046984 (hand). Tolerance: 5 figures.
+    expect(rel(r.waldenProductConventional!.value, 0.344074)).toBeLessThan(1e-5);
+    expect(rel(r.waldenProductConventional!.uncertainty!, 0.0046984)).toBeLessThan(1e-4);
+  });
+
+  it('the reverse (D from a radius) inverts the forward relation', () => {
+    // D = k_B T/(6π η r) for r = 2.38458 Å must give back 1.029e-9 m^2/s (same closed form).
+    const r = stokesSummary({ radius: { value: 2.38458, uncertainty: null, unit: 'A' }, viscosity: { value: 0.89e-3, uncertainty: null, unit: 'Pa s' }, temperatureK: T25, boundary: 'stick' });
+    // Tolerance: 6-figure radius → 5e-6 relative.
+    expect(rel(r.diffusion.value, 1.029e-9)).toBeLessThan(5e-6);
+    expect(r.diffusion.uncertainty).toBeNull();
+    expect(r.computed).toBe('diffusion');
+  });
+});
+
+describe('Shannon radii table (src/radii.ts)', () => {
+  it('holds the six-coordinate effective radii of Shannon (1976)', () => {
+    // Shannon, Acta Cryst. A32, 751 (1976), CN 6 (checked against a reprint for Cs+, Mg2+,
+    // Ca2+, F-, Cl-, Br-; Li+, Na+, K+ checked as crystal radius − 0.14 Å; Rb+, I- from memory).
+    // Tolerance: exact table entries.
+    const want: Record<string, number> = { 'Li+': 0.76, 'Na+': 1.02, 'K+': 1.38, 'Rb+': 1.52, 'Cs+': 1.67, 'Mg2+': 0.72, 'Ca2+': 1.0, 'F-': 1.33, 'Cl-': 1.81, 'Br-': 1.96, 'I-': 2.2 };
+    for (const [ion, r] of Object.entries(want)) expect(crystalRadius(ion)?.radiusA).toBe(r);
+  });
+
+  it('reads the usual ways of writing an ion', () => {
+    // Convention of the tool (common practice, no source).
+    expect(normaliseIonName('Mg++')).toBe('Mg2+');
+    expect(normaliseIonName('mg+2')).toBe('Mg2+');
+    expect(normaliseIonName('Cl−')).toBe('Cl-');
+    expect(normaliseIonName('NA')).toBe('Na');
+    expect(crystalRadius('Na')?.name).toBe('Na+');
+    expect(crystalRadius('Xx+')).toBeNull();
+    expect(normaliseIonName('Mg+-')).toBeNull();
+  });
+});
+
+describe('parseUncertainValue ("VALUE[±UNC]UNIT")', () => {
+  it('reads the three written forms into SI', () => {
+    // Unit factors: 1 cm^2/s = 1e-4 m^2/s, 1 mPa s = 1e-3 Pa s (SI definitions).
+    const a = parseUncertainValue('1.0e-9±0.05e-9m^2/s', UNIT_FACTORS.diffusion, '--diffusion');
+    expect(a.value).toBeCloseTo(1e-9, 24);
+    expect(a.uncertainty).toBeCloseTo(5e-11, 24);
+    const b = parseUncertainValue('(1.03 +- 0.05)e-5 cm^2/s', UNIT_FACTORS.diffusion, '--diffusion');
+    // Tolerance: binary rounding of decimal inputs (1e-15 relative).
+    expect(rel(b.value, 1.03e-9)).toBeLessThan(1e-15);
+    expect(rel(b.uncertainty!, 0.05e-9)).toBeLessThan(1e-15);
+    const c = parseUncertainValue('0.89 mPa s', UNIT_FACTORS.viscosity, '--viscosity');
+    expect(rel(c.value, 0.89e-3)).toBeLessThan(1e-15);
+    expect(c.uncertainty).toBeNull();
+    expect(() => parseUncertainValue('0.89', UNIT_FACTORS.viscosity, '--viscosity')).toThrow(UsageError);
+    expect(() => parseUncertainValue('0.89±-1 cP', UNIT_FACTORS.viscosity, '--viscosity')).toThrow(UsageError);
   });
 });
