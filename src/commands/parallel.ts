@@ -174,6 +174,9 @@ export async function runInWorkers(
 ): Promise<TrajectoryRun | null> {
   const n = threads ?? availableParallelism();
   if (n <= 1 || file === '-' || !isMainThread) return null;
+  // Workers replay the current command on a share of the frames: only possible when this
+  // trajectory is the command's main input (not, e.g., a trajectory read for its cell volume).
+  if (invocation.args[0] !== file) return null;
   const script = workerScript();
   if (!script) return null;
   const range = opts.frames;
