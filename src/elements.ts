@@ -178,7 +178,7 @@ function isLower(c: string): boolean {
  */
 const C_TWO_LETTER = new Set(['CL', 'CU', 'CO', 'CR', 'CS']);
 
-/** CHARMM-style ion atom names (exact, any case) that no letter rule would read right. */
+/** Three-letter ion atom names used by some biomolecular force fields (exact, any case) that no letter rule would read right. */
 const ION_ALIASES: ReadonlyMap<string, string> = new Map([
   ['SOD', 'Na'],
   ['POT', 'K'],
@@ -194,7 +194,7 @@ const ION_ALIASES: ReadonlyMap<string, string> = new Map([
 /**
  * Element symbol from an atom label, or 'X' when none can be derived. The rule, in order:
  *
- * 0. The CHARMM ion names SOD, POT, CLA, CAL, CES, LIT, RUB, BAR, ZN2 (exact, any case) map to
+ * 0. The force-field ion names SOD, POT, CLA, CAL, CES, LIT, RUB, BAR, ZN2 (exact, any case) map to
  *    Na, K, Cl, Ca, Cs, Li, Rb, Ba, Zn.
  * 1. Whitespace is trimmed and a trailing charge ("+", "-", "2+", "3-", "++") is removed;
  *    remember that the label carried a charge (it names an ion).
@@ -212,7 +212,7 @@ const ION_ALIASES: ReadonlyMap<string, string> = new Map([
  *      "OG1": so Hg, He, Ho, Hf, Os must be written in mixed case or given by the PDB element
  *      column);
  *    - names starting with N are nitrogen ("NE", "ND1", "NH2"), except the exact name "NA"
- *      (GROMACS/CHARMM-style sodium ion), which is sodium;
+ *      (a common sodium-ion atom name), which is sodium;
  *    - names starting with C are carbon ("CA" alpha carbon, "CD", "CE", "CG"), except those
  *      starting with CL, CU, CO, CR or CS ("CL", "CL1" → Cl);
  *    - any other first letter uses the two-letter element ("ZN", "MG", "FE", "BR", "LI", "SI").

@@ -238,7 +238,7 @@ describe('PDB reader', () => {
     expect(hybrid36(' -12', 4)).toBe(-12);
   });
 
-  it('TITLE "t= …" gives the frame time in ps (as GROMACS writes it)', async () => {
+  it('TITLE "t= …" gives the frame time in ps (a convention of several MD writers)', async () => {
     const w = WATERS.slice(0, 3);
     const text = ['TITLE     water t=   2.50000 step= 1250', ...models([w]).split('\n').filter((l) => l !== 'END'), 'TITLE     water t=   5.00000', ...models([w]).split('\n')].join('\n');
     const r = await readAll(tmp.file('time.pdb', text));

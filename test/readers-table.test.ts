@@ -19,7 +19,7 @@ const ROWS = [
 
 describe('column tables', () => {
   it('whitespace table with a "# name …" header line; time column found; requested columns only', async () => {
-    const text = '# LAMMPS-style comment\n# time pxy pxz pyz\n' + ROWS.map((r) => r.join('  ')).join('\n') + '\n';
+    const text = '# a free comment line\n# time pxy pxz pyz\n' + ROWS.map((r) => r.join('  ')).join('\n') + '\n';
     const path = tmp.file('p.dat', text);
     const warnings: string[] = [];
     const t = await readTable(path, { columns: ['pxz'], warnings });
@@ -60,12 +60,12 @@ describe('column tables', () => {
     expect(Array.from(t.time!)).toEqual(col(ROWS, 0));
   });
 
-  it('xmgrace/.xvg legends name the columns; @ and & lines are comments', async () => {
+  it('plot-directive legends name the columns; @ and & lines are comments', async () => {
     const text =
       '# generated\n@    title "Pressure"\n@    xaxis  label "Time (ps)"\n@ s0 legend "Pres-XY"\n@ s1 legend "Pres-XZ"\n@ s2 legend "Pres-YZ"\n' +
       ROWS.map((r) => r.join(' ')).join('\n') +
       '\n&\n';
-    const t = await readTable(tmp.file('p.xvg', text), { columns: ['Pres-YZ'], warnings: [] });
+    const t = await readTable(tmp.file('p.dat', text), { columns: ['Pres-YZ'], warnings: [] });
     expect(t.names).toEqual(['time', 'Pres-XY', 'Pres-XZ', 'Pres-YZ']);
     expect(Array.from(t.columns.get('Pres-YZ')!)).toEqual(col(ROWS, 3));
     expect(Array.from(t.time!)).toEqual(col(ROWS, 0));
