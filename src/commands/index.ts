@@ -14,6 +14,7 @@ import { register as msd } from './msd.js';
 import { register as vacf } from './vacf.js';
 import { register as diffusion } from './diffusion.js';
 import { register as conductivity } from './conductivity.js';
+import { register as report } from './report.js';
 
 export const COMMANDS: Array<(program: Command) => void> = [
   inspect,
@@ -27,4 +28,5 @@ export const COMMANDS: Array<(program: Command) => void> = [
   vacf,
   diffusion,
   conductivity,
+  report,
 ];

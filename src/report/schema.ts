@@ -15,8 +15,9 @@
  * Quantity); extra keys (e.g. "converged", "reason") are allowed. The rule is applied through
  * "$defs/node", recursively, under every key of `results`; the top-level result keys we expect
  * (structure, diffusion, conductivity, viscosity, convergence, joins) are listed and optional.
- * "started" and "durationSeconds" are optional too, because envelope() in src/output.ts does not
- * set them; when present they are checked. Unknown top-level keys are refused.
+ * "started", "durationSeconds" and "commandLine" (the full command line, written by the report) are
+ * optional too, because envelope() in src/output.ts does not set them; when present they are
+ * checked. Unknown top-level keys are refused.
  */
 
 /** The schema's $id (a URN, so the schema names no network location). */
@@ -35,6 +36,11 @@ export const resultsSchema = {
     tool: { const: 'sojourn' },
     version: { type: 'string', pattern: '^[0-9]+\\.[0-9]+\\.[0-9]+([-+][0-9A-Za-z.+-]*)?$' },
     command: { type: 'string', minLength: 1 },
+    commandLine: {
+      description: 'The full command line as given: program name, command and every argument.',
+      type: 'array',
+      items: { type: 'string' },
+    },
     inputs: { type: 'array', items: { $ref: '#/$defs/input' } },
     options: { type: 'object' },
     started: {
