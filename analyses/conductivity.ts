@@ -46,6 +46,7 @@ import {
   windowRuleText,
   type LayoutSpec,
   type MsdResult,
+  type ReadInfo,
   type SiteGroup,
   type SiteLayout,
   type StorePartial,
@@ -209,7 +210,8 @@ export function ratioWithUncertainty(a: Quantity, b: Quantity, unit: string): Qu
 
 /**
  * Collective series X_c(t) = Σ_s q_s [x_{s,c}(t) − R_c(t)] over frames [from, from+count), for
- * positions (M, e·Å) or with `velocity` for velocities (J, e·Å/ps).
+ * positions (M, e·Å) or with `velocity` for velocities (J, e·Å/ps); from the store's own
+ * per-frame sums Σ q_s r_s when it kept them (`collectiveCharges`, same arithmetic).
  */
 export function collectiveSeries(view: StoreView, q: Float64Array, from: number, count: number, velocity: boolean): Float64Array[] {
   const store = view.store;
@@ -217,14 +219,23 @@ export function collectiveSeries(view: StoreView, q: Float64Array, from: number,
   const out = [0, 1, 2].map(() => new Float64Array(count));
   let qsum = 0;
   for (const x of q) qsum += x;
+  // Sums kept by the store while reading (batched runs), else summed here from the sites.
+  const kept = velocity ? store.collectiveVelocity : store.collective;
   for (let t = 0; t < count; t++) {
-    const [arr, off] = view.at(from + t, velocity);
     let x = 0, y = 0, z = 0;
-    for (let s = 0; s < q.length; s++) {
-      const o = off + 3 * s;
-      x += q[s] * arr[o];
-      y += q[s] * arr[o + 1];
-      z += q[s] * arr[o + 2];
+    if (kept) {
+      const o = 3 * (from + t);
+      x = kept[o];
+      y = kept[o + 1];
+      z = kept[o + 2];
+    } else {
+      const [arr, off] = view.at(from + t, velocity);
+      for (let s = 0; s < q.length; s++) {
+        const o = off + 3 * s;
+        x += q[s] * arr[o];
+        y += q[s] * arr[o + 1];
+        z += q[s] * arr[o + 2];
+      }
     }
     if (drift) {
       const d = 3 * (from + t);
@@ -306,7 +317,10 @@ export interface ConductivityResult {
   frameInterval: number;
   driftRemoved: boolean;
   driftNote: string;
+  /** Bytes of coordinates held at once, reads of the file, and how the sites were batched. */
   bytesHeld: number;
+  reads: number;
+  memoryNote: string | null;
   rules: { window: string; uncertainty: string; concentration: string; ratios: string };
 }
 
@@ -321,6 +335,7 @@ export function analyseConductivity(
   ctx: PassContext,
   opts: ConductivityOptions,
   msd?: MsdResult,
+  read?: ReadInfo,
 ): ConductivityResult {
   const dt = requireFrameInterval(ctx);
   const T = store.frames;
@@ -383,7 +398,7 @@ export function analyseConductivity(
   let gkPlateau: ConductivityResult['greenKuboPlateau'] = null;
   let gkRunning: Float64Array | null = null;
   let gkConverged = true;
-  if ((opts.greenKubo ?? true) && velocitySourceOf(store) === 'file') {
+  if ((opts.greenKubo ?? true) && (store.collective ? store.collectiveVelocity !== null : velocitySourceOf(store) === 'file')) {
     const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
     gkRunning = toSigma(currentAutocorrelation(view, q, 0, T, maxLag));
     const pw = plateauWithSegments(gkRunning, T, opts, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
@@ -436,7 +451,9 @@ export function analyseConductivity(
     frameInterval: dt,
     driftRemoved: store.com !== null,
     driftNote: driftDescription(store, ctx.topology),
-    bytesHeld: storeBytes(store),
+    bytesHeld: read ? read.bytesHeld : storeBytes(store),
+    reads: read ? read.reads : 1,
+    memoryNote: read?.note ?? null,
     rules: {
       window: windowRuleText(opts),
       uncertainty: uncertaintyRuleText(opts),

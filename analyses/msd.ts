@@ -37,6 +37,10 @@
  * origins, at about five log-spaced lags per decade, on the same gathered series (the exact FFT
  * form needs a dozen correlations of powers of the coordinates and loses precision).
  * One gather of each block of sites serves the full-run MSD, the segment MSDs and α2.
+ * Every curve is a sum over sites (`GroupSums`), so a run whose sites do not fit in memory can
+ * store the sites in batches over several reads of the file (`StoreOptions.sites`,
+ * src/commands/batching.ts) and add the batches' sums (`addGroupSums`, `finishMsd`): the result
+ * equals one read's to round-off.
  */
 import type { CellMatrix, Frame, Pass, PassContext, Quantity, Topology } from '../src/types.js';
 import { quantity } from '../src/types.js';
@@ -57,6 +61,7 @@ import {
   DEFAULT_MAX_FRACTION,
   DEFAULT_SEGMENTS,
   DEFAULT_SLOPE_TOLERANCE,
+  MIN_SEGMENTS,
   MIN_WINDOW_POINTS,
   type LagWindow,
 } from '../src/fit.js';
@@ -212,6 +217,38 @@ export interface StoreOptions {
   removeDrift?: boolean;
   /** Keep the velocities the file carries (for the VACF and Green–Kubo). */
   keepVelocities?: boolean;
+  /**
+   * Store only these sites of the layout (indices into its SiteMap, increasing); default all.
+   * Used to process the sites in batches over several reads of a file (`--max-memory`).
+   */
+  sites?: Int32Array;
+  /**
+   * Charge of every site of the full layout: the store then also keeps, per frame, the
+   * collective sums Σ_s q_s r_s (and Σ_s q_s v_s with velocities) over all sites, 3 doubles per
+   * frame, whichever sites it stores (the collective conductivity in batched runs).
+   */
+  collectiveCharges?: Float64Array | ((layout: SiteLayout) => Float64Array);
+  /** With collectiveCharges: also Σ_s q_s v_s per frame, without storing site velocities. */
+  collectiveVelocities?: boolean;
+}
+
+/** The sub-map of the given sites (increasing indices into `map`), in that order. */
+export function subsetSiteMap(map: SiteMap, sites: Int32Array): SiteMap {
+  const start = new Int32Array(sites.length + 1);
+  let total = 0;
+  sites.forEach((s, i) => {
+    if (!(s >= 0 && s < map.count) || (i > 0 && s <= sites[i - 1])) throw new UsageError('site subset must be increasing site indices');
+    start[i] = total;
+    total += map.start[s + 1] - map.start[s];
+  });
+  start[sites.length] = total;
+  const atoms = new Int32Array(total);
+  const weights = new Float64Array(total);
+  sites.forEach((s, i) => {
+    atoms.set(map.atoms.subarray(map.start[s], map.start[s + 1]), start[i]);
+    weights.set(map.weights.subarray(map.start[s], map.start[s + 1]), start[i]);
+  });
+  return { count: sites.length, start, atoms, weights };
 }
 
 /** The stored trajectory of a frame range (survives structured clone). */
@@ -234,6 +271,12 @@ export interface StorePartial {
   velocitiesMissing: boolean;
   /** Centre of mass per frame (3 per frame), or null when drift is kept. */
   com: Float64Array | null;
+  /** Σ_s q_s r_s over all sites of the layout per frame (3 per frame), with collectiveCharges. */
+  collective: Float64Array | null;
+  /** Σ_s q_s v_s per frame, with collectiveCharges and velocities in every frame. */
+  collectiveVelocity: Float64Array | null;
+  /** Per unwrapped atom, Σ q_s w over the sites it belongs to (shifts `collective` on merge). */
+  collectiveAtomCharge: Float64Array | null;
   comVelocity: Float64Array | null;
   firstRaw: Float64Array | null;
   firstUnwrapped: Float64Array | null;
@@ -280,10 +323,14 @@ class Growable {
 function createStore(ctx: PassContext, opts: StoreOptions) {
   const topo = ctx.topology;
   const layout = opts.layout(topo);
-  const map = layout.map;
+  const fullMap = layout.map;
+  const map = opts.sites ? subsetSiteMap(fullMap, opts.sites) : fullMap;
   const removeDrift = opts.removeDrift ?? true;
+  const q = typeof opts.collectiveCharges === 'function' ? opts.collectiveCharges(layout) : opts.collectiveCharges ?? null;
+  if (q && q.length !== fullMap.count) throw new UsageError('collective charges must be given for every site of the layout');
   const need = new Uint8Array(topo.atoms);
   for (const a of map.atoms) need[a] = 1;
+  if (q) for (const a of fullMap.atoms) need[a] = 1;
   let comWeightsAll: Float64Array | null = null;
   if (removeDrift) {
     need.fill(1);
@@ -304,6 +351,16 @@ function createStore(ctx: PassContext, opts: StoreOptions) {
   const slotOf = new Int32Array(topo.atoms).fill(-1);
   unwrapAtoms.forEach((a, k) => (slotOf[a] = k));
   const siteSlot = Int32Array.from(map.atoms, (a) => slotOf[a]);
+  const fullSlot = q ? Int32Array.from(fullMap.atoms, (a) => slotOf[a]) : null;
+  let collectiveAtomCharge: Float64Array | null = null;
+  if (q && fullSlot) {
+    collectiveAtomCharge = new Float64Array(unwrapAtoms.length);
+    for (let s = 0; s < fullMap.count; s++) {
+      for (let j = fullMap.start[s]; j < fullMap.start[s + 1]; j++) collectiveAtomCharge[fullSlot[j]] += q[s] * fullMap.weights[j];
+    }
+  }
+  const coll = q ? new Growable() : null;
+  let collV = q && (opts.keepVelocities || opts.collectiveVelocities) ? new Growable() : null;
   const comWeights = comWeightsAll ? Float64Array.from(unwrapAtoms, (a) => comWeightsAll![a]) : null;
   let comTotal = 0;
   if (comWeights) for (const w of comWeights) comTotal += w;
@@ -337,12 +394,12 @@ function createStore(ctx: PassContext, opts: StoreOptions) {
   let allCubic = true;
   const d = new Float64Array(3);
 
-  function makeMoleculesWhole(u: Float64Array, cell: CellMatrix): void {
+  function makeMoleculesWhole(u: Float64Array, cell: CellMatrix, m: SiteMap, slot: Int32Array): void {
     const g = new CellGeometry(cell);
-    for (let s = 0; s < S; s++) {
-      const k0 = siteSlot[map.start[s]];
-      for (let j = map.start[s] + 1; j < map.start[s + 1]; j++) {
-        const k = siteSlot[j];
+    for (let s = 0; s < m.count; s++) {
+      const k0 = slot[m.start[s]];
+      for (let j = m.start[s] + 1; j < m.start[s + 1]; j++) {
+        const k = slot[j];
         d[0] = u[3 * k] - u[3 * k0];
         d[1] = u[3 * k + 1] - u[3 * k0 + 1];
         d[2] = u[3 * k + 2] - u[3 * k0 + 2];
@@ -369,7 +426,7 @@ function createStore(ctx: PassContext, opts: StoreOptions) {
       const u = unwrapper.step(f.positions, f.cell);
       const pos = f.positions;
       if (frames === 0) {
-        if (layout.molecules && f.cell) makeMoleculesWhole(u, f.cell);
+        if (layout.molecules && f.cell) makeMoleculesWhole(u, f.cell, fullSlot ? fullMap : map, fullSlot ?? siteSlot);
         firstRaw = new Float64Array(3 * n);
         for (let k = 0; k < n; k++) {
           const o = 3 * unwrapAtoms[k];
@@ -420,6 +477,43 @@ function createStore(ctx: PassContext, opts: StoreOptions) {
           z += w * u[3 * k + 2];
         }
         com.push3(x / comTotal, y / comTotal, z / comTotal);
+      }
+      if (coll && q && fullSlot) {
+        // Same arithmetic as the stored site positions and `collectiveSeries` (bit-identical).
+        let mx = 0, my = 0, mz = 0;
+        for (let s = 0; s < fullMap.count; s++) {
+          let x = 0, y = 0, z = 0;
+          for (let j = fullMap.start[s]; j < fullMap.start[s + 1]; j++) {
+            const k = 3 * fullSlot[j];
+            const w = fullMap.weights[j];
+            x += w * u[k];
+            y += w * u[k + 1];
+            z += w * u[k + 2];
+          }
+          mx += q[s] * x;
+          my += q[s] * y;
+          mz += q[s] * z;
+        }
+        coll.push3(mx, my, mz);
+        const v = f.velocities;
+        if (collV && !v) collV = null;
+        if (collV && v) {
+          let jx = 0, jy = 0, jz = 0;
+          for (let s = 0; s < fullMap.count; s++) {
+            let x = 0, y = 0, z = 0;
+            for (let j = fullMap.start[s]; j < fullMap.start[s + 1]; j++) {
+              const o = 3 * fullMap.atoms[j];
+              const w = fullMap.weights[j];
+              x += w * v[o];
+              y += w * v[o + 1];
+              z += w * v[o + 2];
+            }
+            jx += q[s] * x;
+            jy += q[s] * y;
+            jz += q[s] * z;
+          }
+          collV.push3(jx, jy, jz);
+        }
       }
       if (velocityChunks && currentV) {
         const v = f.velocities;
@@ -478,6 +572,9 @@ function createStore(ctx: PassContext, opts: StoreOptions) {
         velocitiesMissing,
         com: com ? com.trimmed() : null,
         comVelocity: hasV && comV ? comV.trimmed() : null,
+        collective: coll ? coll.trimmed() : null,
+        collectiveVelocity: collV ? collV.trimmed() : null,
+        collectiveAtomCharge,
         firstRaw,
         firstUnwrapped,
         firstCell,
@@ -560,6 +657,24 @@ export function mergeStores(a: StorePartial, b: StorePartial): StorePartial {
     com.set(a.com);
     com.set(b.com, a.com.length);
   }
+  let collective: Float64Array | null = null;
+  if (a.collective && b.collective && b.collectiveAtomCharge) {
+    // M = Σ q_s r_s shifts by Σ_atoms (Σ q_s w) · shift, the same linear combination.
+    let cx = 0, cy = 0, cz = 0;
+    for (let k = 0; k < n; k++) {
+      const w = b.collectiveAtomCharge[k];
+      cx += w * shift[3 * k];
+      cy += w * shift[3 * k + 1];
+      cz += w * shift[3 * k + 2];
+    }
+    for (let o = 0; o < b.collective.length; o += 3) {
+      b.collective[o] += cx;
+      b.collective[o + 1] += cy;
+      b.collective[o + 2] += cz;
+    }
+    collective = concat(a.collective, b.collective);
+  }
+  const collectiveVelocity = a.collectiveVelocity && b.collectiveVelocity ? concat(a.collectiveVelocity, b.collectiveVelocity) : null;
   const lastUnwrapped = Float64Array.from(b.lastUnwrapped!, (v, k) => v + shift[k]);
   const hasV = a.velocityChunks !== null && b.velocityChunks !== null;
   let comVelocity: Float64Array | null = null;
@@ -580,6 +695,9 @@ export function mergeStores(a: StorePartial, b: StorePartial): StorePartial {
     velocitiesMissing: a.velocitiesMissing || b.velocitiesMissing,
     com,
     comVelocity,
+    collective,
+    collectiveVelocity,
+    collectiveAtomCharge: a.collectiveAtomCharge,
     firstRaw: a.firstRaw,
     firstUnwrapped: a.firstUnwrapped,
     firstCell: a.firstCell,
@@ -591,6 +709,14 @@ export function mergeStores(a: StorePartial, b: StorePartial): StorePartial {
     longSteps,
     maxStepFraction: maxFrac,
   };
+}
+
+/** a followed by b. */
+function concat(a: Float64Array, b: Float64Array): Float64Array {
+  const c = new Float64Array(a.length + b.length);
+  c.set(a);
+  c.set(b, a.length);
+  return c;
 }
 
 /**
@@ -613,6 +739,8 @@ export function storeBytes(p: StorePartial): number {
   if (p.velocityChunks) for (const c of p.velocityChunks) b += c.byteLength;
   if (p.com) b += p.com.byteLength;
   if (p.comVelocity) b += p.comVelocity.byteLength;
+  if (p.collective) b += p.collective.byteLength;
+  if (p.collectiveVelocity) b += p.collectiveVelocity.byteLength;
   return b;
 }
 
@@ -812,30 +940,70 @@ export interface GroupCurves {
   nonGaussian: { lag: number; msd: number; value: number }[];
 }
 
+/** Segment curves for one segment count M: per segment, per component, lags 0 … lag. */
+export interface SegmentSums {
+  segments: number;
+  /** Frames per segment L = ⌊T/M⌋. */
+  frames: number;
+  lag: number;
+  curves: Float64Array[][];
+}
+
+/**
+ * Site sums of one group's MSD curves (not yet divided by the number of sites), so that sums
+ * from batches of sites add up to those of the whole group (`addGroupSums`).
+ */
+export interface GroupSums {
+  sites: number;
+  /** Σ_sites per-component MSD, lags 0 … maxLag. */
+  xyz: Float64Array[];
+  /** Segment sums for each segment count computed. */
+  segments: SegmentSums[];
+  /** Σ |Δr|² and Σ |Δr|⁴ over sites and origins at the α2 lags. */
+  s2: Float64Array;
+  s4: Float64Array;
+}
+
+/** Add the sums of b (other sites, same curves) into a; returns a. */
+export function addGroupSums(a: GroupSums, b: GroupSums): GroupSums {
+  const add = (x: Float64Array, y: Float64Array) => {
+    for (let i = 0; i < x.length; i++) x[i] += y[i];
+  };
+  a.sites += b.sites;
+  a.xyz.forEach((x, c) => add(x, b.xyz[c]));
+  a.segments.forEach((sa, i) => sa.curves.forEach((seg, k) => seg.forEach((x, c) => add(x, b.segments[i].curves[k][c]))));
+  add(a.s2, b.s2);
+  add(a.s4, b.s4);
+  return a;
+}
+
 /**
  * Everything the MSD analysis needs from one group in one gather per block of sites (so each
- * stored coordinate is read once): the full-run per-component MSD up to maxLag, the MSD of each
- * of M equal segments [kL, (k+1)L) up to segmentMaxLag, and the non-Gaussian parameter at
- * `ngLags` (direct sums over all origins on the gathered, cache-resident series). Order matters:
- * α2 sums, then the full run (centring each series once), then the segments (each centred on its
- * own mean; the MSD is shift invariant, Kneller et al. 1995).
+ * stored coordinate is read once), as sums over the sites: the full-run per-component MSD up to
+ * maxLag, for each requested segment count M and its lag the MSD of each of the M equal
+ * segments [kL, (k+1)L), and the α2 moment sums at `ngLags` (direct sums over all origins on the
+ * gathered, cache-resident series). Order matters: α2 sums, then the full run (centring each
+ * series once), then the segments (each centred on its own mean; the MSD is shift invariant,
+ * Kneller et al. 1995).
  */
-export function groupCurves(
+export function groupCurveSums(
   view: StoreView,
   sites: Int32Array,
   maxLag: number,
   removeDrift: boolean,
-  opts: { segments: number; ngLags: readonly number[]; ngComps: readonly number[]; segmentMaxLag?: number },
-): GroupCurves {
+  opts: { segments: ReadonlyArray<{ segments: number; lag: number }>; ngLags: readonly number[]; ngComps: readonly number[] },
+): GroupSums {
   const T = view.frames;
   const comps = [0, 1, 2];
   const drift = removeDrift ? view.store.com : null;
   const xyz = comps.map(() => new Float64Array(maxLag + 1));
-  const M = opts.segments;
-  const L = M > 0 ? Math.floor(T / M) : 0;
-  // Segment curves up to the longest lag a segment window may use (default all lags L−1).
-  const segLag = Math.max(1, Math.min(L - 1, opts.segmentMaxLag ?? L - 1));
-  const segments = Array.from({ length: M }, () => comps.map(() => new Float64Array(segLag + 1)));
+  const segs: SegmentSums[] = opts.segments
+    .filter((p) => p.segments > 0 && Math.floor(T / p.segments) >= 2)
+    .map((p) => {
+      const L = Math.floor(T / p.segments);
+      const lag = Math.max(1, Math.min(L - 1, p.lag));
+      return { segments: p.segments, frames: L, lag, curves: Array.from({ length: p.segments }, () => comps.map(() => new Float64Array(lag + 1))) };
+    });
   const nl = opts.ngLags.length;
   const s2 = new Float64Array(nl);
   const s4 = new Float64Array(nl);
@@ -854,24 +1022,53 @@ export function groupCurves(
       const series = bufs.filter((_, j) => j % 3 === c);
       const part = msdSumFft(series, maxLag);
       for (let m = 0; m <= maxLag; m++) xyz[c][m] += part[m];
-      if (L >= 2) {
-        for (let k = 0; k < M; k++) {
-          const seg = msdSumFft(series.map((x) => x.subarray(k * L, (k + 1) * L)), segLag);
-          const acc = segments[k][c];
-          for (let m = 0; m <= segLag; m++) acc[m] += seg[m];
+      for (const sg of segs) {
+        const L = sg.frames;
+        for (let k = 0; k < sg.segments; k++) {
+          const seg = msdSumFft(series.map((x) => x.subarray(k * L, (k + 1) * L)), sg.lag);
+          const acc = sg.curves[k][c];
+          for (let m = 0; m <= sg.lag; m++) acc[m] += seg[m];
         }
       }
     }
   }
-  const n = sites.length;
-  for (const r of xyz) for (let m = 0; m <= maxLag; m++) r[m] /= n;
-  for (const seg of segments) for (const r of seg) for (let m = 0; m < r.length; m++) r[m] /= n;
-  const nonGaussian = opts.ngLags.map((lag, i) => {
-    const pairs = (T - lag) * n;
-    const msd = s2[i] / pairs;
-    return { lag, msd, value: nonGaussianFromMoments(msd, s4[i] / pairs, opts.ngComps.length) };
+  return { sites: sites.length, xyz, segments: segs, s2, s4 };
+}
+
+/**
+ * Everything the MSD analysis needs from one group in one gather (see `groupCurveSums`),
+ * averaged over the sites: the full-run per-component MSD up to maxLag, the MSD of each of M
+ * equal segments up to segmentMaxLag (default all lags of a segment), and α2 at `ngLags`.
+ */
+export function groupCurves(
+  view: StoreView,
+  sites: Int32Array,
+  maxLag: number,
+  removeDrift: boolean,
+  opts: { segments: number; ngLags: readonly number[]; ngComps: readonly number[]; segmentMaxLag?: number },
+): GroupCurves {
+  const T = view.frames;
+  const L = opts.segments > 0 ? Math.floor(T / opts.segments) : 0;
+  const sums = groupCurveSums(view, sites, maxLag, removeDrift, {
+    segments: [{ segments: opts.segments, lag: opts.segmentMaxLag ?? L - 1 }],
+    ngLags: opts.ngLags,
+    ngComps: opts.ngComps,
   });
-  return { xyz, segments: L >= 2 ? segments : [], segmentFrames: L >= 2 ? L : 0, nonGaussian };
+  return curvesFromSums(sums, T, opts.ngLags, opts.ngComps.length);
+}
+
+/** Site averages of group sums (the `GroupCurves` of the first segment count). */
+function curvesFromSums(sums: GroupSums, T: number, ngLags: readonly number[], dims: number): GroupCurves {
+  const n = sums.sites;
+  const xyz = sums.xyz.map((r) => r.map((v) => v / n));
+  const first = sums.segments[0];
+  const segments = first ? first.curves.map((seg) => seg.map((r) => r.map((v) => v / n))) : [];
+  const nonGaussian = ngLags.map((lag, i) => {
+    const pairs = (T - lag) * n;
+    const msd = sums.s2[i] / pairs;
+    return { lag, msd, value: nonGaussianFromMoments(msd, sums.s4[i] / pairs, dims) };
+  });
+  return { xyz, segments, segmentFrames: first ? first.frames : 0, nonGaussian };
 }
 
 /**
@@ -888,12 +1085,27 @@ export function addNonGaussianSums(axes: Float64Array[], lags: readonly number[]
     const m = lags[li];
     let a2 = 0, a4 = 0;
     if (y && z) {
-      for (let t = 0; t + m < T; t++) {
+      // Two origins per step with separate partial sums (shorter dependency chains).
+      let b2 = 0, b4 = 0;
+      let t = 0;
+      for (; t + 1 + m < T; t += 2) {
+        const dx = x[t + m] - x[t], dy = y[t + m] - y[t], dz = z[t + m] - z[t];
+        const r2 = dx * dx + dy * dy + dz * dz;
+        a2 += r2;
+        a4 += r2 * r2;
+        const ex = x[t + 1 + m] - x[t + 1], ey = y[t + 1 + m] - y[t + 1], ez = z[t + 1 + m] - z[t + 1];
+        const q2 = ex * ex + ey * ey + ez * ez;
+        b2 += q2;
+        b4 += q2 * q2;
+      }
+      if (t + m < T) {
         const dx = x[t + m] - x[t], dy = y[t + m] - y[t], dz = z[t + m] - z[t];
         const r2 = dx * dx + dy * dy + dz * dz;
         a2 += r2;
         a4 += r2 * r2;
       }
+      a2 += b2;
+      a4 += b4;
     } else if (y) {
       for (let t = 0; t + m < T; t++) {
         const dx = x[t + m] - x[t], dy = y[t + m] - y[t];
@@ -1098,7 +1310,12 @@ export interface MsdResult {
   driftRemoved: boolean;
   driftNote: string;
   molecules: boolean;
+  /** Bytes of coordinates held at once (the largest store when the sites were batched). */
   bytesHeld: number;
+  /** Reads of the trajectory (more than 1 when --max-memory split the sites into batches). */
+  reads: number;
+  /** How the sites were batched over several reads (null for one read). */
+  memoryNote: string | null;
   yehHummer: { viscosity: Quantity; temperature: Quantity; boxLength: Quantity; correction: Quantity; note: string } | null;
   rules: { window: string; uncertainty: string; nonGaussian: string };
 }
@@ -1133,6 +1350,59 @@ export function yehHummerBoxLength(store: StorePartial): { length: number; note:
   return { length: L, note };
 }
 
+/** Lag ranges of an MSD analysis of T frames (shared by the one-read and the batched paths). */
+export interface MsdPlan {
+  frames: number;
+  maxLag: number;
+  ngLags: number[];
+  /** Segment counts and lags whose sums are computed with the full-run curve. */
+  segments: Array<{ segments: number; lag: number }>;
+}
+
+/**
+ * The lag ranges for T frames: lags up to half the run (or the end of a user window), α2 lags,
+ * and the segment curves: the requested count M with the lags a segment window may use; with
+ * `allCounts`, also every smaller count down to MIN_SEGMENTS that the segment plan may fall back
+ * to (src/fit.ts planSegments), so that no stored coordinates are needed afterwards.
+ */
+export function msdPlan(T: number, dt: number, opts: MsdOptions, allCounts = false): MsdPlan {
+  if (T < 2 * MIN_WINDOW_POINTS) throw new AnalysisError(`only ${T} frames: the MSD needs at least ${2 * MIN_WINDOW_POINTS}`);
+  const userTo = opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0;
+  const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
+  const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, f), userTo));
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  // An automatic window never ends past ⌊f_max (L−1)⌋ of a segment (src/fit.ts planSegments); a
+  // user window may use every lag of a segment.
+  const userWindow = opts.fitFrom !== undefined && opts.fitTo !== undefined;
+  const lagFor = (m: number) => (userWindow ? Math.floor(T / m) - 1 : maxLagIndex(Math.floor(T / m), f));
+  const counts = allCounts ? Array.from({ length: Math.max(1, want - Math.min(want, MIN_SEGMENTS) + 1) }, (_, i) => want - i) : [want];
+  return {
+    frames: T,
+    maxLag,
+    ngLags: opts.nonGaussian ?? true ? logSpacedLags(maxLag) : [],
+    segments: counts.map((m) => ({ segments: m, lag: lagFor(m) })),
+  };
+}
+
+/**
+ * Sums of every group's curves over the sites a store holds. `groupSites` gives, per group of
+ * the layout, the indices of its sites in the store's site map (default: the layout's own).
+ */
+export function msdSums(store: StorePartial, layout: SiteLayout, plan: MsdPlan, comps: readonly number[], groupSites?: Int32Array[]): GroupSums[] {
+  const view = new StoreView(store);
+  return layout.groups.map((g, i) =>
+    groupCurveSums(view, groupSites ? groupSites[i] : g.sites, plan.maxLag, store.com !== null, { segments: plan.segments, ngLags: plan.ngLags, ngComps: comps }),
+  );
+}
+
+/** How the MSD sums were obtained: reads of the file and the largest store held. */
+export interface ReadInfo {
+  reads: number;
+  bytesHeld: number;
+  /** Why and how the sites were batched (several reads), or absent. */
+  note?: string;
+}
+
 /**
  * The MSD analysis on a finished store: per group, MSD per component and total for all lags up
  * to half the run (or the end of a user window), the non-Gaussian parameter, the diffusion
@@ -1141,22 +1411,46 @@ export function yehHummerBoxLength(store: StorePartial): { length: number; note:
  */
 export function analyseMsd(store: StorePartial, layout: SiteLayout, ctx: PassContext, opts: MsdOptions = {}): MsdResult {
   const dt = requireFrameInterval(ctx);
-  const T = store.frames;
-  if (T < 2 * MIN_WINDOW_POINTS) throw new AnalysisError(`only ${T} frames: the MSD needs at least ${2 * MIN_WINDOW_POINTS}`);
+  const plan = msdPlan(store.frames, dt, opts);
+  const comps = planeComponents(opts.plane);
+  const sums = msdSums(store, layout, plan, comps);
+  const view = new StoreView(store);
+  return finishMsd(sums, plan, store, layout, ctx, opts, { reads: 1, bytesHeld: storeBytes(store) }, (g, start, count, lag) =>
+    groupMsdComponents(view, layout.groups[g].sites, start, count, lag, store.com !== null),
+  );
+}
+
+/**
+ * The MSD result from site sums (`msdSums`, possibly added over batches of sites): fits, segment
+ * uncertainty, α2 and the Yeh–Hummer correction (see `analyseMsd`). `info` is a store of the run
+ * (its cell, drift and unwrapping records; its coordinates are not used). Segment curves come
+ * from the sums; `recompute`, when the coordinates are still held, serves a segment count that
+ * was not summed (else that count gives no uncertainty, which `msdPlan(…, true)` prevents).
+ */
+export function finishMsd(
+  sums: GroupSums[],
+  plan: MsdPlan,
+  info: StorePartial,
+  layout: SiteLayout,
+  ctx: PassContext,
+  opts: MsdOptions,
+  read: ReadInfo,
+  recompute?: (group: number, start: number, count: number, maxLag: number) => Float64Array[],
+): MsdResult {
+  const dt = requireFrameInterval(ctx);
+  const T = plan.frames;
+  const maxLag = plan.maxLag;
   const comps = planeComponents(opts.plane);
   const dims = comps.length;
-  const removeDrift = store.com !== null;
-  const view = new StoreView(store);
-  const userTo = opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0;
-  const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, opts.maxFraction ?? DEFAULT_MAX_FRACTION), userTo));
+  const removeDrift = info.com !== null;
   let yh: MsdResult['yehHummer'] = null;
   let correction = 0;
   if (opts.viscosity !== undefined || opts.temperature !== undefined) {
     if (opts.viscosity === undefined || opts.temperature === undefined) {
       throw new UsageError('the Yeh–Hummer correction needs both --viscosity and --temperature');
     }
-    const box = yehHummerBoxLength(store);
-    if (!store.allCubic) ctx.warnings.push(box.note);
+    const box = yehHummerBoxLength(info);
+    if (!info.allCubic) ctx.warnings.push(box.note);
     correction = yehHummerCorrection(opts.temperature, opts.viscosity, box.length);
     yh = {
       viscosity: quantity(opts.viscosity, null, 'Pa s'),
@@ -1167,24 +1461,21 @@ export function analyseMsd(store: StorePartial, layout: SiteLayout, ctx: PassCon
     };
   }
   const groups: MsdGroupResult[] = [];
-  const wantSegments = opts.segments ?? DEFAULT_SEGMENTS;
-  // An automatic window never ends past ⌊f_max (L−1)⌋ of a segment (src/fit.ts planSegments); a
-  // user window may use every lag of a segment.
-  const userWindow = opts.fitFrom !== undefined && opts.fitTo !== undefined;
-  const segmentMaxLag = userWindow ? undefined : maxLagIndex(Math.floor(T / wantSegments), opts.maxFraction ?? DEFAULT_MAX_FRACTION);
-  const ngLags = opts.nonGaussian ?? true ? logSpacedLags(maxLag) : [];
-  for (const g of layout.groups) {
-    const curves = groupCurves(view, g.sites, maxLag, removeDrift, { segments: wantSegments, ngLags, ngComps: comps, segmentMaxLag });
+  layout.groups.forEach((g, gi) => {
+    const sum = sums[gi];
+    const curves = curvesFromSums(sum, T, plan.ngLags, comps.length);
     const xyz = curves.xyz;
     const total = new Float64Array(maxLag + 1);
     for (const c of comps) for (let m = 0; m <= maxLag; m++) total[m] += xyz[c][m];
     const sf = fitSlopeWithSegments(total, dt, T, opts, (start, count, lag) => {
       const s = new Float64Array(lag + 1);
-      // The segments of the planned count were computed in the same gather; others (fewer
-      // segments chosen by the plan) are computed here.
-      const L = curves.segmentFrames;
-      const cached = L === count && start % L === 0 && lag < curves.segments[0]?.[0].length;
-      const seg = cached ? curves.segments[start / L] : groupMsdComponents(view, g.sites, start, count, lag, removeDrift);
+      // Segments of a summed count come from the sums; others (fewer segments chosen by the
+      // plan) are computed here from the coordinates when they are still held.
+      const sg = sum.segments.find((x) => x.frames === count && start % count === 0 && lag <= x.lag);
+      let seg: Float64Array[];
+      if (sg) seg = sg.curves[start / count].map((r) => r.map((v) => v / sum.sites));
+      else if (recompute) seg = recompute(gi, start, count, lag);
+      else throw new AnalysisError(`no segment curves of ${count} frames were summed`);
       for (const c of comps) for (let m = 0; m <= lag; m++) s[m] += seg[c][m];
       return s;
     });
@@ -1208,8 +1499,8 @@ export function analyseMsd(store: StorePartial, layout: SiteLayout, ctx: PassCon
       converged: sf.converged,
       notes,
     });
-  }
-  const warn = unwrapWarning(store);
+  });
+  const warn = unwrapWarning(info);
   if (warn) ctx.warnings.push(warn);
   return {
     groups,
@@ -1218,9 +1509,11 @@ export function analyseMsd(store: StorePartial, layout: SiteLayout, ctx: PassCon
     frames: T,
     frameInterval: dt,
     driftRemoved: removeDrift,
-    driftNote: driftDescription(store, ctx.topology),
+    driftNote: driftDescription(info, ctx.topology),
     molecules: layout.molecules,
-    bytesHeld: storeBytes(store),
+    bytesHeld: read.bytesHeld,
+    reads: read.reads,
+    memoryNote: read.note ?? null,
     yehHummer: yh,
     rules: {
       window: windowRuleText(opts),

@@ -46,7 +46,6 @@
  * Internal units: pressure in the table's unit (a factor to Pa is folded into the prefactor),
  * time in ps, viscosity in Pa s.
  */
-import FFT from 'fft.js';
 import { autocorrelation, nextPowerOfTwo } from '../src/correlate.js';
 import { fitLine, blockStatistics } from '../src/fit.js';
 import { BOLTZMANN, CUBIC_ANGSTROM, PICOSECOND } from '../src/units.js';
@@ -531,88 +530,24 @@ export function fitDoubleExponential(
 }
 
 // ---------------------------------------------------------------------------------------------
-// Many autocorrelations of one length with one FFT plan
-
-/**
- * Unbiased autocorrelations C(k) = 1/(n−k) Σ_{i=0}^{n−1−k} x_i x_{i+k}, k = 0 … maxLag, of many
- * series of the same length n, reusing one FFT plan and its buffers (the viscosity analysis needs
- * one per segment and component — up to 50 series of 10⁶ samples — and building an fft.js plan
- * for 2²¹ points costs about as much as a transform). Correlation theorem with zero padding to
- * S = 2^⌈log₂(n + maxLag)⌉ ≥ n + maxLag, so the circular sum equals the linear one (Press et al.,
- * Numerical Recipes, 3rd ed. (2007), §13.2): P_f = |X_f|² from a real transform, and since P is
- * real and even, its inverse transform is the forward real transform divided by S.
- * (src/correlate.ts has the general single-call version; this is the batch form of the same
- * theorem.)
- */
-export class AutocorrelationPlan {
-  readonly length: number;
-  readonly maxLag: number;
-  readonly size: number;
-  private readonly fft: FFT;
-  private readonly input: Float64Array;
-  private readonly spectrum: Float64Array;
-  private readonly power: Float64Array;
-
-  constructor(length: number, maxLag: number) {
-    if (!Number.isInteger(length) || length < 1) throw new UsageError(`autocorrelation: bad series length ${length}`);
-    if (!Number.isInteger(maxLag) || maxLag < 0 || maxLag > length - 1) {
-      throw new UsageError(`autocorrelation: maximum lag must be an integer in [0, ${length - 1}], got ${maxLag}`);
-    }
-    this.length = length;
-    this.maxLag = maxLag;
-    this.size = nextPowerOfTwo(Math.max(4, length + maxLag));
-    this.fft = new FFT(this.size);
-    this.input = new Float64Array(this.size);
-    this.spectrum = new Float64Array(2 * this.size);
-    this.power = new Float64Array(this.size);
-  }
-
-  private scratchBuffer: Float64Array | null = null;
-
-  /** A reusable work array of n values (n ≤ transform length), owned by the plan. */
-  scratch(n: number): Float64Array {
-    if (!this.scratchBuffer || this.scratchBuffer.length < n) this.scratchBuffer = new Float64Array(n);
-    return this.scratchBuffer.subarray(0, n);
-  }
-
-  /** Autocorrelation of x (length `length`) into out (length ≥ maxLag + 1); returns out. */
-  compute(x: ArrayLike<number>, out: Float64Array = new Float64Array(this.maxLag + 1)): Float64Array {
-    const { size, input, spectrum, power, fft } = this;
-    const n = this.length;
-    if (x.length !== n) throw new UsageError(`autocorrelation: series of length ${x.length}, plan for ${n}`);
-    for (let i = 0; i < n; i++) input[i] = x[i];
-    input.fill(0, n);
-    fft.realTransform(spectrum, input);
-    const half = size >> 1;
-    for (let f = 0; f <= half; f++) {
-      const re = spectrum[2 * f];
-      const im = spectrum[2 * f + 1];
-      const pw = re * re + im * im;
-      power[f] = pw;
-      if (f > 0 && f < half) power[size - f] = pw;
-    }
-    fft.realTransform(spectrum, power);
-    for (let k = 0; k <= this.maxLag; k++) out[k] = spectrum[2 * k] / size / (n - k);
-    return out;
-  }
-}
-
-// ---------------------------------------------------------------------------------------------
 // Helfand moment
+
+/** Work array for the Helfand moment G (reused: fresh memory is expensive to touch). */
+let helfandWork: Float64Array | null = null;
 
 /**
  * Mean-squared Helfand moment M(k) = ⟨(G_{i+k} − G_i)²⟩ over all origins i of one series, with
  * G_i = dt Σ_{j<i} x_j (i = 0 … n) (Helfand, Phys. Rev. 119, 1 (1960)). Uses
  * M(k) = [Σ_{i=0}^{L−1−k} (G_i² + G_{i+k}²)]/(L−k) − 2 C_GG(k), L = n + 1 (G centred first, which
- * leaves every difference unchanged), with C_GG the
- * unbiased autocorrelation of G by FFT (`AutocorrelationPlan`; pass one to reuse it across calls).
+ * leaves every difference unchanged), with C_GG the unbiased autocorrelation of G by FFT
+ * (src/correlate.ts, which picks the cheapest transform layout for the lag range).
  * Units: x² · ps².
  */
-export function helfandMsd(x: Float64Array, dt: number, maxLag: number, plan?: AutocorrelationPlan): Float64Array {
+export function helfandMsd(x: Float64Array, dt: number, maxLag: number): Float64Array {
   const L = x.length + 1;
-  if (maxLag > L - 1) throw new UsageError(`helfandMsd: maxLag ${maxLag} exceeds ${L - 1}`);
-  const p = plan && plan.length === L && plan.maxLag === maxLag ? plan : new AutocorrelationPlan(L, maxLag);
-  const G = p.scratch(L);
+  if (!Number.isInteger(maxLag) || maxLag < 0 || maxLag > L - 1) throw new UsageError(`helfandMsd: maxLag ${maxLag} must be an integer in [0, ${L - 1}]`);
+  if (!helfandWork || helfandWork.length < L) helfandWork = new Float64Array(L);
+  const G = helfandWork.subarray(0, L);
   let s = 0;
   G[0] = 0;
   for (let i = 0; i < x.length; i++) {
@@ -624,7 +559,7 @@ export function helfandMsd(x: Float64Array, dt: number, maxLag: number, plan?: A
   for (let i = 0; i < L; i++) gm += G[i];
   gm /= L;
   for (let i = 0; i < L; i++) G[i] -= gm;
-  const cgg = p.compute(G);
+  const cgg = autocorrelation(G, { maxLag });
   // Σ_{i=0}^{L-1-k} G_i² = total − (sum of the last k squares); Σ_{i=k}^{L-1} G_i² = total − (first k).
   let total = 0;
   for (let i = 0; i < L; i++) total += G[i] * G[i];
@@ -667,8 +602,8 @@ export interface ShearSeries {
  * The independent, equivalent shear components available from the columns, each centred on its
  * own mean over the whole run: P_xy, P_xz, P_yz; with all three diagonal entries also
  * a = (P_xx − P_yy)/2 and c = (2P_zz − P_xx − P_yy)/(2√3) (Daivis & Evans 1994; see the module
- * comment); with only P_xx and P_yy, a. With `inPlace`, the off-diagonal arrays are centred in
- * place (no copy).
+ * comment); with only P_xx and P_yy, a. With `inPlace` the caller gives up the arrays: the
+ * off-diagonal ones are centred in place, and a and c overwrite P_xx and P_zz (no copy).
  */
 export function shearComponents(cols: StressColumns, inPlace = false): ShearSeries[] {
   const out: ShearSeries[] = [];
@@ -685,15 +620,18 @@ export function shearComponents(cols: StressColumns, inPlace = false): ShearSeri
   if (cols.yz) centre('yz', cols.yz, inPlace);
   const { xx, yy, zz } = cols;
   if (xx && yy) {
-    const a = new Float64Array(xx.length);
+    // With inPlace, c is written over zz and a over xx (each entry only reads its own row, and c
+    // is formed before xx changes): no fresh 8-byte-per-row arrays, which are slow to first touch.
+    const k = 1 / (2 * Math.sqrt(3));
+    let c: Float64Array | null = null;
+    if (zz) {
+      c = inPlace ? zz : new Float64Array(xx.length);
+      for (let i = 0; i < c.length; i++) c[i] = k * (2 * zz[i] - xx[i] - yy[i]);
+    }
+    const a = inPlace ? xx : new Float64Array(xx.length);
     for (let i = 0; i < a.length; i++) a[i] = 0.5 * (xx[i] - yy[i]);
     centre('(xx-yy)/2', a, true);
-    if (zz) {
-      const c = new Float64Array(xx.length);
-      const k = 1 / (2 * Math.sqrt(3));
-      for (let i = 0; i < c.length; i++) c[i] = k * (2 * zz[i] - xx[i] - yy[i]);
-      centre('(2zz-xx-yy)/(2*sqrt3)', c, true);
-    }
+    if (c) centre('(2zz-xx-yy)/(2*sqrt3)', c, true);
   }
   if (out.length === 0) throw new UsageError('no shear component: need at least one of pxy, pxz, pyz, or pxx with pyy');
   const n = out[0].values.length;
@@ -834,12 +772,12 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const compSum = components.map(() => new Float64Array(L));
   const compSq = components.map(() => new Float64Array(L));
   const tmp = new Float64Array(L);
-  const acf = new Float64Array(L);
-  let plan: AutocorrelationPlan | null = new AutocorrelationPlan(m, maxLag);
   for (let s = 0; s < N; s++) {
     components.forEach((c, ci) => {
       const seg = c.values.subarray(s * m, (s + 1) * m);
-      plan!.compute(seg, acf);
+      // Unbiased autocorrelation of the segment up to maxLag (src/correlate.ts chooses the
+      // transform layout: for long segments, blocks that stay in the CPU caches).
+      const acf = autocorrelation(seg, { maxLag });
       runningIntegral(acf, dt, pref, tmp);
       const cs = compSum[ci];
       const cq = compSq[ci];
@@ -851,7 +789,6 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
       unitCurves.push(Float32Array.from(tmp));
     });
   }
-  plan = null; // release the transform buffers
   // η̄(t) over all units; σ(t) = SD of a segment's component-averaged curve = SD_unit/√c.
   const mean = new Float64Array(L);
   const sigma = new Float64Array(L);
@@ -957,10 +894,9 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
     const slopes: number[] = [];
     const hIdx = thinIndices(hFrom, hTo, MAX_FIT_POINTS);
     const hx = hIdx.map((k) => k * dt);
-    const hPlan = new AutocorrelationPlan(m + 1, hTo);
     for (let s = 0; s < N; s++) {
       for (const c of components) {
-        const h = helfandMsd(c.values.subarray(s * m, (s + 1) * m), dt, hTo, hPlan);
+        const h = helfandMsd(c.values.subarray(s * m, (s + 1) * m), dt, hTo);
         const f = fitLine(hx, hIdx.map((k) => h[k]));
         slopes.push((f.slope / 2) * pref);
       }

@@ -1,6 +1,7 @@
 /**
- * Time correlation functions by FFT, shared by MSD, velocity autocorrelation, Green–Kubo and the
- * convergence statistics.
+ * Time correlation functions by FFT, shared by MSD, velocity autocorrelation, Green–Kubo
+ * (conductivity and viscosity) and the convergence statistics: the one FFT correlation module
+ * of the project.
  *
  * Definition used everywhere (unbiased, all time origins):
  *   C_xy(k) = 1/(N−k) · Σ_{i=0}^{N−k−1} x_i · y_{i+k},   k = 0 … maxLag.
@@ -9,30 +10,35 @@
  *   Σ_i x_i y_{i+k} = IDFT( conj(DFT x) · DFT y )_k
  * (W. H. Press et al., Numerical Recipes, 3rd ed., 2007, §13.2). Cost O(N log N).
  *
- * Three code paths, chosen automatically:
- * - Whole-series path (maxLag comparable with N, S = 2^⌈log₂(N+maxLag)⌉ ≤ 2^22). One transform
- *   of length S. For autocorrelations the real input is packed into a complex array of half
- *   length and unpacked with the standard even/odd split (Numerical Recipes §12.3), for both the
- *   forward and the inverse transform: memory ≈ 28·S bytes (fft.js twiddle table 8·S, two
- *   complex buffers 16·S, power spectrum 4·S), at most ≈ 120 MB. Cross-correlations pack x and y
- *   as real and imaginary parts of one complex transform of length S: ≈ 80·S bytes.
- * - Block-pair path (the same, but S > 2^22, e.g. all lags of 10⁷ samples): see
- *   `blockPairProductSums`; memory ≈ 16·N bytes per series (160 MB for 10⁷ samples) plus the
- *   result; measured here ≈ 10 s for 10⁷ samples and all lags (memory-bound spectral products).
- * - Segmented path (maxLag ≪ N; whenever S_c ≤ S/2 below). The series is cut into
- *   chunks of length L = S_c − maxLag, S_c = 2^⌈log₂ max(4(maxLag+1), 1024)⌉; each chunk x[a, a+L)
- *   is correlated with y[a, a+L+maxLag) through one complex transform of length S_c (x and y
- *   packed as real and imaginary parts) and the cross spectra are summed, so one inverse
- *   transform gives the total (overlap–save, Numerical Recipes §13.1). Memory ≈ 80·S_c bytes,
- *   independent of N (≈ 80 kB for maxLag ≤ 255); cost O(N log S_c). The same machinery gives
- *   the lagged sums for many time origins at once (`laggedProductSums`), which the
- *   equilibration search needs.
+ * Three code paths; for one time origin the cheapest by a cost model of fft.js measured on the
+ * development machine (`pathCost`; transforms beyond ≈ 2^17 points leave the CPU caches and cost
+ * 2–3× more per point, so long lag ranges are cheaper in blocks):
+ * - Whole-series path: one transform of length S = 2^⌈log₂(N+maxLag)⌉. For autocorrelations the
+ *   real input is packed into a complex array of half length and unpacked with the standard
+ *   even/odd split (Numerical Recipes §12.3), for both the forward and the inverse transform;
+ *   the power spectra of all series are summed before one inverse. Cross-correlations pack x
+ *   and y as real and imaginary parts of one complex transform of length S.
+ * - Block-pair path (`blockPairProductSums`): x and y cut into blocks of B samples; the half
+ *   spectra of the zero-padded blocks (real transforms of length 2B) are stored frequency-major,
+ *   and for each frequency the products of all block pairs (b, b+d) are summed in cache, then
+ *   one packed real inverse transform per lag block d gives lags dB … dB+B−1. Memory ≈ 16·N
+ *   bytes per series (reused between calls), transforms of at most 2^18 points.
+ * - Segmented path (overlap–save, Numerical Recipes §13.1; maxLag ≪ N, and for many time
+ *   origins at once, `laggedProductSums`): chunks of length L = S_c − maxLag,
+ *   S_c = 2^⌈log₂ max(4(maxLag+1), 1024)⌉; chunk x[a, a+L) is correlated with y[a, a+L+maxLag)
+ *   through one complex transform of length S_c and the cross spectra are summed, so one inverse
+ *   transform gives the total. Memory ≈ 64·S_c bytes, independent of N.
  * Mean subtraction and detrending are applied on the fly while filling the transform buffers
- * (`Baseline`), never by copying the series. Measured here: 10⁷ samples, maxLag 64 → ≈ 0.25 s.
+ * (`Baseline`), never by copying the series.
  *
- * FFT objects and work buffers are cached per transform length up to 2^16 (complex) points,
- * where they cost at most ≈ 5 MB each; larger ones are built per call and released. Not
- * re-entrant across worker threads' shared memory (each worker has its own module instance).
+ * Caching policy (memory stays bounded; first use of fresh memory is expensive, so plans and
+ * buffers are reused): fft.js plans with their twiddle tables, our own twiddle tables and the
+ * work buffers are kept per transform length. Lengths up to 2^16 complex points are always kept
+ * (all of them together < 16 MB). Of the longer ones (up to 2^22) only the LARGE_PLANS_KEPT = 2
+ * most recently used lengths are kept, and only while their buffers total at most
+ * LARGE_PLAN_BYTES = 192 MB; the least recently used is released first. The block-pair spectra
+ * buffer (16·N bytes) is kept while it is at most SCRATCH_BYTES_KEPT = 96 MB. Not re-entrant
+ * across worker threads' shared memory (each worker has its own module instance).
  */
 import FFT from 'fft.js';
 import { AnalysisError, UsageError } from './errors.js';
@@ -52,31 +58,101 @@ export function nextPowerOfTwo(n: number): number {
   return p;
 }
 
-interface Workspace {
+// ---------------------------------------------------------------------------------------------
+// Plan cache
+
+/** An fft.js plan of one transform length with its twiddles and lazily made work buffers. */
+interface Plan {
+  size: number;
   fft: FFT;
-  /** Complex buffers of length 2·size. */
-  a: Float64Array;
-  b: Float64Array;
-  acc: Float64Array;
-  out: Float64Array;
+  /** cos(2πf/(2·size)) and sin(2πf/(2·size)), f = 0 … size: the split twiddles of a real
+   * transform of length 2·size packed into this complex one (made on first use). */
+  cos: Float64Array | null;
+  sin: Float64Array | null;
+  buffers: Map<string, Float64Array>;
+  bytes: number;
 }
 
-const CACHE_MAX_SIZE = 1 << 16;
-const workspaces = new Map<number, Workspace>();
+/** Complex lengths up to this are always kept. */
+const SMALL_PLAN = 1 << 16;
+/** Number of longer lengths kept (least recently used released first). */
+const LARGE_PLANS_KEPT = 2;
+/** Bytes the longer lengths may hold together (the most recent one is kept regardless). */
+const LARGE_PLAN_BYTES = 192 * 2 ** 20;
+/** Largest block-pair spectra buffer kept between calls. */
+const SCRATCH_BYTES_KEPT = 96 * 2 ** 20;
 
-/** Workspace (FFT object + buffers) for a complex transform length; cached for small sizes. */
-function workspace(size: number): Workspace {
-  const hit = workspaces.get(size);
-  if (hit) return hit;
-  const ws: Workspace = {
-    fft: new FFT(size),
-    a: new Float64Array(2 * size),
-    b: new Float64Array(2 * size),
-    acc: new Float64Array(2 * size),
-    out: new Float64Array(2 * size),
-  };
-  if (size <= CACHE_MAX_SIZE) workspaces.set(size, ws);
-  return ws;
+const plans = new Map<number, Plan>();
+/** Longer lengths in order of use, most recent last. */
+const largeOrder: number[] = [];
+
+/** fft.js plan for a complex transform length, from the cache (policy in the module comment). */
+function planFor(size: number): Plan {
+  let p = plans.get(size);
+  if (!p) {
+    // fft.js keeps a twiddle array of 2·size numbers and a bit-reversal table of ≤ size/2.
+    p = { size, fft: new FFT(size), cos: null, sin: null, buffers: new Map(), bytes: 20 * size };
+    plans.set(size, p);
+  }
+  if (size > SMALL_PLAN) {
+    const i = largeOrder.indexOf(size);
+    if (i >= 0) largeOrder.splice(i, 1);
+    largeOrder.push(size);
+    trimLargePlans();
+  }
+  return p;
+}
+
+/** Release least recently used long plans beyond the count or byte limit. */
+function trimLargePlans(): void {
+  let bytes = 0;
+  for (const s of largeOrder) bytes += plans.get(s)!.bytes;
+  while (largeOrder.length > 1 && (largeOrder.length > LARGE_PLANS_KEPT || bytes > LARGE_PLAN_BYTES)) {
+    const s = largeOrder.shift()!;
+    bytes -= plans.get(s)!.bytes;
+    plans.delete(s);
+  }
+}
+
+/** A work buffer of `length` doubles owned by a plan (contents undefined). */
+function planBuffer(p: Plan, name: string, length: number): Float64Array {
+  let b = p.buffers.get(name);
+  if (!b || b.length < length) {
+    if (b) p.bytes -= b.byteLength;
+    b = new Float64Array(length);
+    p.buffers.set(name, b);
+    p.bytes += b.byteLength;
+    if (p.size > SMALL_PLAN) trimLargePlans();
+  }
+  return b.length === length ? b : b.subarray(0, length);
+}
+
+/** Split twiddles of a plan: cos and sin of 2πf/(2·size), f = 0 … size. */
+function splitTwiddles(p: Plan): { cos: Float64Array; sin: Float64Array } {
+  if (!p.cos || !p.sin) {
+    const m = p.size;
+    const cos = new Float64Array(m + 1);
+    const sin = new Float64Array(m + 1);
+    for (let f = 0; f <= m; f++) {
+      const th = (Math.PI * f) / m;
+      cos[f] = Math.cos(th);
+      sin[f] = Math.sin(th);
+    }
+    p.cos = cos;
+    p.sin = sin;
+    p.bytes += 16 * (m + 1);
+  }
+  return { cos: p.cos, sin: p.sin };
+}
+
+let scratchArray: Float64Array | null = null;
+
+/** Module scratch of `length` doubles for the block spectra (kept while ≤ SCRATCH_BYTES_KEPT). */
+function scratch(length: number): Float64Array {
+  if (scratchArray && scratchArray.length >= length) return scratchArray.subarray(0, length);
+  const a = new Float64Array(length);
+  scratchArray = a.byteLength <= SCRATCH_BYTES_KEPT ? a : null;
+  return a;
 }
 
 /** Smallest transform length used by the segmented path (keeps per-call overhead low). */
@@ -134,6 +210,46 @@ export function laggedProductSums(
   );
 }
 
+/**
+ * Longest transform handed to fft.js in one piece (2^22 points). Beyond this fft.js builds its
+ * twiddle table as a JavaScript array so long that V8 stores it in slow dictionary mode
+ * (measured here: a 2^24-point transform pair took 25 s); longer problems use block pairs.
+ */
+const MAX_DIRECT_TRANSFORM = 1 << 22;
+/** Block lengths the path choice considers for block pairs: 2^BLOCK_MIN_LOG … 2^BLOCK_MAX_LOG. */
+const BLOCK_MIN_LOG = 7;
+const BLOCK_MAX_LOG = 17;
+
+/**
+ * Estimated cost (ns) of one fft.js transform of n points, complex or real input: n·log₂n times
+ * a per-point constant measured with fft.js 4.0.4 on Node 20 / x86-64 (the development
+ * machine): complex 1.0 ns up to 2^16 points, 1.5 at 2^17, 2.0 up to 2^20, 2.4 beyond; real input
+ * 0.65, 0.8, 1.1, 1.5. Only ratios matter (it chooses between paths).
+ */
+function transformCost(n: number, real: boolean): number {
+  const k = n <= 1 << 16 ? 0 : n <= 1 << 17 ? 1 : n <= 1 << 20 ? 2 : 3;
+  const perPoint = real ? [0.65, 0.8, 1.1, 1.5][k]! : [1.0, 1.5, 2.0, 2.4][k]!;
+  return n * Math.log2(n) * perPoint + 2 * n; // + filling and unpacking the buffers
+}
+
+/** Cost model of one single-origin path (see `transformCost`); Infinity when not applicable. */
+function pathCost(path: 'whole' | 'segmented' | 'blocks', n: number, maxLag: number, terms: number, allAuto: boolean, size: number): number {
+  if (path === 'whole') {
+    if (size > MAX_DIRECT_TRANSFORM) return Infinity;
+    return allAuto ? (terms + 1) * transformCost(size / 2, false) : (terms + 1) * transformCost(size, false);
+  }
+  if (path === 'segmented') {
+    if (size > MAX_DIRECT_TRANSFORM) return Infinity;
+    const chunks = Math.ceil(n / (size - maxLag));
+    return (terms * chunks + 1) * transformCost(size, false);
+  }
+  const b = size;
+  const nb = Math.ceil(n / b);
+  const lb = Math.floor(maxLag / b) + 1;
+  const products = (b + 1) * (nb * lb - (lb * (lb - 1)) / 2);
+  return terms * ((allAuto ? 1 : 2) * nb * transformCost(2 * b, true) + 2 * products) + lb * transformCost(b, false);
+}
+
 /** Validation and path choice for `laggedProductSums` and the baseline-corrected variants. */
 function laggedSums(terms: Term[], origins: readonly number[], maxLag: number): Float64Array[] {
   const n = terms[0]!.x.length;
@@ -152,42 +268,43 @@ function laggedSums(terms: Term[], origins: readonly number[], maxLag: number): 
     }
   }
   const sChunk = chunkTransformLength(maxLag);
-  const sWhole = nextPowerOfTwo(n + maxLag);
+  const sWhole = Math.max(4, nextPowerOfTwo(n + maxLag));
   const allAuto = terms.every((t) => t.x === t.y && t.bx === t.by);
   const single = origins.length === 1 && origins[0] === 0;
-  if (single && sWhole <= 2 * sChunk) {
-    if (sWhole > MAX_DIRECT_TRANSFORM) return [blockPairSums(terms, maxLag, blockPairLength(n))];
-    if (allAuto) return [wholeAutoSums(terms, maxLag, Math.max(4, sWhole))];
-    return segmentedSums(terms, origins, maxLag, sWhole, n);
+  if (!single) return segmentedSums(terms, origins, maxLag, Math.min(sChunk, sWhole), n);
+  // One origin: the cheapest path by the cost model. Small problems stay cache-resident whole.
+  if (sWhole <= 1 << 16) return [allAuto ? wholeAutoSums(terms, maxLag, sWhole) : segmentedSums(terms, origins, maxLag, sWhole, n)[0]!];
+  const nt = terms.length;
+  let best: { path: 'whole' | 'segmented' | 'blocks'; size: number; cost: number } = {
+    path: 'whole',
+    size: sWhole,
+    cost: pathCost('whole', n, maxLag, nt, allAuto, sWhole),
+  };
+  if (sChunk < sWhole) {
+    const c = pathCost('segmented', n, maxLag, nt, allAuto, sChunk);
+    if (c < best.cost) best = { path: 'segmented', size: sChunk, cost: c };
   }
-  const s = Math.min(sChunk, sWhole);
-  if (single && s > MAX_DIRECT_TRANSFORM) return [blockPairSums(terms, maxLag, blockPairLength(n))];
-  return segmentedSums(terms, origins, maxLag, s, n);
+  for (let lg = BLOCK_MIN_LOG; lg <= BLOCK_MAX_LOG && 1 << lg < 2 * n; lg++) {
+    const c = pathCost('blocks', n, maxLag, nt, allAuto, 1 << lg);
+    if (c < best.cost) best = { path: 'blocks', size: 1 << lg, cost: c };
+  }
+  if (best.path === 'blocks') return [blockPairSums(terms, maxLag, best.size)];
+  if (best.path === 'segmented') return segmentedSums(terms, origins, maxLag, best.size, n);
+  return [allAuto ? wholeAutoSums(terms, maxLag, sWhole) : segmentedSums(terms, origins, maxLag, sWhole, n)[0]!];
 }
 
 /**
- * Longest transform handed to fft.js in one piece (2^22 points). Beyond this fft.js builds its
- * twiddle table as a JavaScript array so long that V8 stores it in slow dictionary mode
- * (measured here: a 2^24-point transform pair took 25 s); longer problems use block pairs.
- */
-const MAX_DIRECT_TRANSFORM = 1 << 22;
-
-/** Block length for `blockPairSums`: about N/32, as a power of two in [2^12, 2^18]. */
-function blockPairLength(n: number): number {
-  return Math.min(1 << 18, Math.max(1 << 12, nextPowerOfTwo(Math.ceil(n / 32))));
-}
-
-/**
- * Lagged sums by block pairs, for lags too long for one transform (used automatically above;
- * exported for testing with small blocks): Σ_pairs Σ_{i=0}^{N−1−k} x_i y_{i+k}, k = 0 … maxLag.
+ * Lagged sums by block pairs, for long lag ranges (chosen automatically above; exported for
+ * testing with small blocks): Σ_pairs Σ_{i=0}^{N−1−k} x_i y_{i+k}, k = 0 … maxLag.
  * x and y are cut into blocks of length B; the half spectra (real-input transforms of length
- * 2B, zero padded) of all blocks are stored, U_b for x and W_b for y. Lags k = dB + r, 0 ≤ r < B,
+ * 2B, zero padded) of all blocks are formed, U_b for x and W_b for y. Lags k = dB + r, 0 ≤ r < B,
  * pair block b of x with blocks b+d and b+d+1 of y; since a shift by B in a length-2B transform
  * multiplies the spectrum by (−1)^f,
  *   R(dB + r) = IDFT_{2B}( Σ_b conj(U_b)·(W_{b+d} + (−1)^f W_{b+d+1}) )_r
  * with no wrap-around (block-convolution form of the correlation theorem, Numerical Recipes
- * §13.1–13.2). Cost: N/B forward transforms, one inverse per lag block and O(N·(maxLag/B))
- * spectral products; memory ≈ 16·N bytes per distinct series (10⁷ samples: 160 MB).
+ * §13.1–13.2). Cost: N/B real transforms per distinct series, one packed real inverse per lag
+ * block and O(N·(maxLag/B)) spectral products done frequency by frequency in cache; memory
+ * ≈ 16·N bytes per distinct series of one term (reused between calls, see the module comment).
  */
 export function blockPairProductSums(
   pairs: ReadonlyArray<readonly [Float64Array, Float64Array]>,
@@ -213,88 +330,156 @@ export function blockPairProductSums(
   );
 }
 
-/** Half spectra (f = 0 … B) of all length-B blocks of x − baseline, zero padded to 2B. */
-function blockSpectra(x: Float64Array, base: Baseline, b: number, fft: FFT, work: Float64Array, spec: Float64Array): Float64Array {
+/**
+ * Half spectra (f = 0 … B) of all length-B blocks of x − baseline, zero padded to 2B, stored
+ * frequency-major: entry (f, block k) at 2(f·blocks + k) of `all`. Blocks are transformed in
+ * groups of up to 4 so that each frequency's entries of a group are written together.
+ */
+function blockSpectra(x: Float64Array, base: Baseline, b: number, p: Plan, all: Float64Array): void {
   const n = x.length;
   const blocks = Math.ceil(n / b);
-  const stride = 2 * (b + 1);
-  const all = new Float64Array(blocks * stride);
-  for (let k = 0; k < blocks; k++) {
-    const a0 = k * b;
-    const len = Math.min(b, n - a0);
-    const ia = base.intercept + base.slope * a0;
-    const sl = base.slope;
-    for (let j = 0; j < len; j++) work[j] = x[a0 + j]! - (ia + sl * j);
-    work.fill(0, len);
-    fft.realTransform(spec, work);
-    all.set(spec.subarray(0, stride), k * stride);
+  const stride = 2 * blocks;
+  const sl = base.slope;
+  const work = planBuffer(p, 'work', 2 * b);
+  const specs = [0, 1, 2, 3].map((g) => planBuffer(p, `spec${g}`, 4 * b));
+  for (let k0 = 0; k0 < blocks; k0 += 4) {
+    const group = Math.min(4, blocks - k0);
+    for (let g = 0; g < group; g++) {
+      const a0 = (k0 + g) * b;
+      const len = Math.min(b, n - a0);
+      const ia = base.intercept + sl * a0;
+      if (ia === 0 && sl === 0) work.set(x.subarray(a0, a0 + len));
+      else for (let j = 0; j < len; j++) work[j] = x[a0 + j]! - (ia + sl * j);
+      work.fill(0, len);
+      p.fft.realTransform(specs[g]!, work);
+    }
+    for (let g = 0; g < group; g++) {
+      const spec = specs[g]!;
+      let o = 2 * (k0 + g);
+      for (let f = 0; f <= 2 * b; f += 2, o += stride) {
+        all[o] = spec[f]!;
+        all[o + 1] = spec[f + 1]!;
+      }
+    }
   }
-  return all;
+}
+
+/**
+ * Real sequence r of even length s = 2m from its Hermitian half spectrum X_f (f = 0 … m,
+ * interleaved re/im in `half`), by one complex inverse transform of length m: with
+ * E_f = (X_f + X_{f+m})/2, O_f = (X_f − X_{f+m})·e^{+2πif/s}/2 and X_{f+m} = conj(X_{m−f}),
+ * IDFT_m(E + i·O) = r_{2j} + i·r_{2j+1} (Numerical Recipes §12.3). Writes r_0 … r_{s−1} to out
+ * (length 2m); z is a work array of 2m.
+ */
+function inverseRealHalf(half: Float64Array, p: Plan, z: Float64Array, out: Float64Array): void {
+  const m = p.size;
+  const { cos, sin } = splitTwiddles(p);
+  for (let f = 0; f < m; f++) {
+    const g = m - f;
+    const xr = half[2 * f]!;
+    const xi = half[2 * f + 1]!;
+    const cr = half[2 * g]!;
+    const ci = -half[2 * g + 1]!;
+    const er = 0.5 * (xr + cr);
+    const ei = 0.5 * (xi + ci);
+    const dr = 0.5 * (xr - cr);
+    const di = 0.5 * (xi - ci);
+    const c = cos[f]!;
+    const s = sin[f]!;
+    const or = dr * c - di * s;
+    const oi = dr * s + di * c;
+    z[2 * f] = er - oi;
+    z[2 * f + 1] = ei + or;
+  }
+  p.fft.inverseTransform(out, z);
+}
+
+/**
+ * Spectral products of the block-pair path for one term, frequency by frequency:
+ * acc_d(f) += Σ_k conj(U_k(f))·Y_{k+d}(f), Y_j = W_j + (−1)^f W_{j+1} (W_blocks = 0), for lag
+ * blocks d < lagBlocks; u and w frequency-major (see `blockSpectra`), y a work array of
+ * 2·blocks doubles, acc lagBlocks half spectra of 2(b+1) doubles. Two partial sums per product
+ * shorten the floating-point dependency chain.
+ */
+function blockProducts(u: Float64Array, w: Float64Array, y: Float64Array, acc: Float64Array, blocks: number, lagBlocks: number, b: number): void {
+  const stride = 2 * blocks;
+  const hs = 2 * (b + 1);
+  for (let f = 0; f <= b; f++) {
+    const base = f * stride;
+    const sign = (f & 1) === 0 ? 1 : -1;
+    for (let j = 0; j < stride - 2; j += 2) {
+      y[j] = w[base + j]! + sign * w[base + j + 2]!;
+      y[j + 1] = w[base + j + 1]! + sign * w[base + j + 3]!;
+    }
+    y[stride - 2] = w[base + stride - 2]!;
+    y[stride - 1] = w[base + stride - 1]!;
+    for (let d = 0; d < lagBlocks; d++) {
+      let sr0 = 0;
+      let si0 = 0;
+      let sr1 = 0;
+      let si1 = 0;
+      const n = 2 * (blocks - d);
+      const yd = 2 * d;
+      let k = 0;
+      for (; k + 4 <= n; k += 4) {
+        const ur = u[base + k]!;
+        const ui = u[base + k + 1]!;
+        const vr = y[yd + k]!;
+        const vi = y[yd + k + 1]!;
+        sr0 += ur * vr + ui * vi;
+        si0 += ur * vi - ui * vr;
+        const ur1 = u[base + k + 2]!;
+        const ui1 = u[base + k + 3]!;
+        const vr1 = y[yd + k + 2]!;
+        const vi1 = y[yd + k + 3]!;
+        sr1 += ur1 * vr1 + ui1 * vi1;
+        si1 += ur1 * vi1 - ui1 * vr1;
+      }
+      if (k < n) {
+        const ur = u[base + k]!;
+        const ui = u[base + k + 1]!;
+        const vr = y[yd + k]!;
+        const vi = y[yd + k + 1]!;
+        sr0 += ur * vr + ui * vi;
+        si0 += ur * vi - ui * vr;
+      }
+      const o = d * hs + 2 * f;
+      acc[o] += sr0 + sr1;
+      acc[o + 1] += si0 + si1;
+    }
+  }
 }
 
 function blockPairSums(terms: Term[], maxLag: number, b: number): Float64Array {
   const n = terms[0]!.x.length;
   const t = 2 * b;
-  const cached = t <= CACHE_MAX_SIZE ? workspace(t) : null;
-  const fft = cached ? cached.fft : new FFT(t);
-  const work = new Float64Array(t);
-  const spec = cached ? cached.a : new Float64Array(2 * t);
-  const acc = cached ? cached.acc : new Float64Array(2 * t);
-  const out = cached ? cached.out : new Float64Array(2 * t);
+  const fwd = planFor(t);
+  const inv = planFor(b);
   const blocks = Math.ceil(n / b);
-  const stride = 2 * (b + 1);
   const lagBlocks = Math.floor(maxLag / b) + 1;
+  const hs = 2 * (b + 1); // one half spectrum, interleaved
+  const acc = new Float64Array(lagBlocks * hs);
+  const cross = terms.some((term) => term.x !== term.y || term.bx !== term.by);
+  const all = scratch((cross ? 4 : 2) * blocks * (b + 1) + 2 * blocks);
+  const u = all.subarray(0, 2 * blocks * (b + 1));
+  const w = cross ? all.subarray(2 * blocks * (b + 1), 4 * blocks * (b + 1)) : u;
+  const y = all.subarray(all.length - 2 * blocks); // Y_j at one frequency (blockProducts)
+  for (const term of terms) {
+    blockSpectra(term.x, term.bx, b, fwd, u);
+    if (w !== u) {
+      if (term.y === term.x && term.by === term.bx) w.set(u);
+      else blockSpectra(term.y, term.by, b, fwd, w);
+    }
+    blockProducts(u, w, y, acc, blocks, lagBlocks, b);
+  }
+  const z = planBuffer(inv, 'z', t);
+  const out = planBuffer(inv, 'out', t);
   const result = new Float64Array(maxLag + 1);
-  const spectra = terms.map((term) => {
-    const u = blockSpectra(term.x, term.bx, b, fft, work, spec);
-    const w = term.y === term.x && term.by === term.bx ? u : blockSpectra(term.y, term.by, b, fft, work, spec);
-    return { u, w };
-  });
   for (let d = 0; d < lagBlocks; d++) {
-    acc.fill(0);
-    for (const { u, w } of spectra) {
-      for (let k = 0; k + d < blocks; k++) {
-        const uo = k * stride;
-        const w1 = (k + d) * stride;
-        if (k + d + 1 < blocks) {
-          // V = W_{k+d} + (−1)^f W_{k+d+1}; f in pairs (even: +, odd: −) to avoid a branch.
-          const w2 = (k + d + 1) * stride;
-          for (let p = 0; p <= 2 * b; p += 4) {
-            let vr = w[w1 + p]! + w[w2 + p]!;
-            let vi = w[w1 + p + 1]! + w[w2 + p + 1]!;
-            let ur = u[uo + p]!;
-            let ui = u[uo + p + 1]!;
-            acc[p] += ur * vr + ui * vi;
-            acc[p + 1] += ur * vi - ui * vr;
-            if (p === 2 * b) break; // f = B is even: no odd partner
-            vr = w[w1 + p + 2]! - w[w2 + p + 2]!;
-            vi = w[w1 + p + 3]! - w[w2 + p + 3]!;
-            ur = u[uo + p + 2]!;
-            ui = u[uo + p + 3]!;
-            acc[p + 2] += ur * vr + ui * vi;
-            acc[p + 3] += ur * vi - ui * vr;
-          }
-        } else {
-          for (let p = 0; p <= 2 * b; p += 2) {
-            const vr = w[w1 + p]!;
-            const vi = w[w1 + p + 1]!;
-            const ur = u[uo + p]!;
-            const ui = u[uo + p + 1]!;
-            acc[p] += ur * vr + ui * vi;
-            acc[p + 1] += ur * vi - ui * vr;
-          }
-        }
-      }
-    }
-    // The correlation is real, so its spectrum is Hermitian: fill f = B+1 … 2B−1.
-    for (let f = 1; f < b; f++) {
-      acc[2 * (t - f)] = acc[2 * f]!;
-      acc[2 * (t - f) + 1] = -acc[2 * f + 1]!;
-    }
-    fft.inverseTransform(out, acc);
+    inverseRealHalf(acc.subarray(d * hs, (d + 1) * hs), inv, z, out);
     const base = d * b;
     const top = Math.min(b, maxLag - base + 1);
-    for (let r = 0; r < top; r++) result[base + r] = out[2 * r]!;
+    for (let r = 0; r < top; r++) result[base + r] = out[r]!;
   }
   return result;
 }
@@ -312,8 +497,12 @@ function segmentedSums(
   s: number,
   n: number,
 ): Float64Array[] {
-  const ws = workspace(s);
-  const { fft, a: z, b: spec, acc, out } = ws;
+  const p = planFor(s);
+  const fft = p.fft;
+  const z = planBuffer(p, 'a', 2 * s);
+  const spec = planBuffer(p, 'b', 2 * s);
+  const acc = planBuffer(p, 'acc', 2 * s);
+  const out = planBuffer(p, 'out', 2 * s);
   const chunk = s - maxLag;
   const mask = s - 1;
   acc.fill(0);
@@ -362,75 +551,68 @@ function segmentedSums(
  * Whole-series autocorrelation sums Σ_series Σ_i x_i x_{i+k} with real-input packing: a real
  * sequence r of even length s is transformed as the complex sequence r_{2j} + i·r_{2j+1} of
  * length m = s/2, and X_f = E_f + e^{−2πif/s}·O_f with E_f = (Z_f + Z*_{m−f})/2,
- * O_f = (Z_f − Z*_{m−f})/(2i) (Numerical Recipes §12.3). The inverse of the real, even power
- * spectrum P is packed the same way: Y_f = E_f + i·O_f with E_f = (P_f + P_{m−f})/2 and
- * O_f = (P_f − P_{m−f})·e^{+2πif/s}/2, whose length-m inverse gives r_{2j} + i·r_{2j+1}.
+ * O_f = (Z_f − Z*_{m−f})/(2i) (Numerical Recipes §12.3); the pair f, m−f is unpacked together.
+ * The inverse of the summed real, even power spectrum is packed the same way
+ * (`inverseRealHalf`).
  */
 function wholeAutoSums(terms: Term[], maxLag: number, s: number): Float64Array {
   const m = s / 2;
   const n = terms[0]!.x.length;
-  const cached = m <= CACHE_MAX_SIZE ? workspace(m) : null;
-  const fft = cached ? cached.fft : new FFT(m);
-  const z = cached ? cached.a : new Float64Array(2 * m);
-  const spec = cached ? cached.b : new Float64Array(2 * m);
-  const power = new Float64Array(m + 1);
-  const { cos, sin } = twiddles(s);
+  const p = planFor(m);
+  const fft = p.fft;
+  const z = planBuffer(p, 'a', 2 * m);
+  const spec = planBuffer(p, 'b', 2 * m);
+  const power = planBuffer(p, 'power', 2 * (m + 1));
+  power.fill(0);
+  const { cos, sin } = splitTwiddles(p);
   for (const { x, bx } of terms) {
     // Interleaved complex r_{2j} + i·r_{2j+1} is the real sequence itself, zero padded.
     const { intercept, slope } = bx;
-    for (let i = 0; i < n; i++) z[i] = x[i]! - (intercept + slope * i);
+    if (slope === 0 && intercept === 0) z.set(x);
+    else for (let i = 0; i < n; i++) z[i] = x[i]! - (intercept + slope * i);
     z.fill(0, n);
     fft.transform(spec, z);
-    for (let f = 0; f <= m; f++) {
-      const fi = f === m ? 0 : f;
-      const gi = f === 0 ? 0 : m - f;
-      const zr = spec[2 * fi]!;
-      const zi = spec[2 * fi + 1]!;
-      const cr = spec[2 * gi]!;
-      const ci = -spec[2 * gi + 1]!;
-      const er = 0.5 * (zr + cr);
-      const ei = 0.5 * (zi + ci);
-      const or = 0.5 * (zi - ci);
-      const oi = -0.5 * (zr - cr);
-      const c = cos[f]!;
-      const sn = -sin[f]!;
-      const xr = er + c * or - sn * oi;
-      const xi = ei + c * oi + sn * or;
-      power[f] += xr * xr + xi * xi;
+    // f = 0 and f = m: X_0 = Re Z_0 + Im Z_0, X_m = Re Z_0 − Im Z_0 (both real).
+    const x0 = spec[0]! + spec[1]!;
+    const xm = spec[0]! - spec[1]!;
+    power[0] += x0 * x0;
+    power[2 * m] += xm * xm;
+    // 0 < f ≤ m/2 together with g = m − f: Z*_{m−f} for f is conj of Z_g and vice versa.
+    for (let f = 1; 2 * f <= m; f++) {
+      const g = m - f;
+      const zr = spec[2 * f]!;
+      const zi = spec[2 * f + 1]!;
+      const wr = spec[2 * g]!;
+      const wi = spec[2 * g + 1]!;
+      // For f: E = (Z_f + conj Z_g)/2, O = (Z_f − conj Z_g)/(2i).
+      let er = 0.5 * (zr + wr);
+      let ei = 0.5 * (zi - wi);
+      let or = 0.5 * (zi + wi);
+      let oi = -0.5 * (zr - wr);
+      let c = cos[f]!;
+      let sn = -sin[f]!;
+      let xr = er + c * or - sn * oi;
+      let xi = ei + c * oi + sn * or;
+      power[2 * f] += xr * xr + xi * xi;
+      if (g === f) continue;
+      // For g: E = (Z_g + conj Z_f)/2, O = (Z_g − conj Z_f)/(2i).
+      er = 0.5 * (wr + zr);
+      ei = 0.5 * (wi - zi);
+      or = 0.5 * (wi + zi);
+      oi = -0.5 * (wr - zr);
+      c = cos[g]!;
+      sn = -sin[g]!;
+      xr = er + c * or - sn * oi;
+      xi = ei + c * oi + sn * or;
+      power[2 * g] += xr * xr + xi * xi;
     }
   }
-  for (let f = 0; f < m; f++) {
-    const p = power[f]!;
-    const q = power[m - f]!;
-    const e = 0.5 * (p + q);
-    const d = 0.5 * (p - q);
-    z[2 * f] = e - d * sin[f]!;
-    z[2 * f + 1] = d * cos[f]!;
-  }
-  fft.inverseTransform(spec, z);
+  // The power spectrum is real: power holds it as a half spectrum with zero imaginary parts.
+  const out = spec;
+  inverseRealHalf(power, p, z, out);
   const r = new Float64Array(maxLag + 1);
-  for (let k = 0; k <= maxLag; k++) r[k] = spec[k]!; // spec holds r_0, r_1, r_2, ... interleaved
+  for (let k = 0; k <= maxLag; k++) r[k] = out[k]!; // out holds r_0, r_1, r_2, ... interleaved
   return r;
-}
-
-const twiddleCache = new Map<number, { cos: Float64Array; sin: Float64Array }>();
-
-/** cos(2πf/s) and sin(2πf/s) for f = 0 … s/2, cached per transform length s. */
-function twiddles(s: number): { cos: Float64Array; sin: Float64Array } {
-  let t = twiddleCache.get(s);
-  if (!t) {
-    const m = s / 2;
-    const cos = new Float64Array(m + 1);
-    const sin = new Float64Array(m + 1);
-    for (let f = 0; f <= m; f++) {
-      const th = (2 * Math.PI * f) / s;
-      cos[f] = Math.cos(th);
-      sin[f] = Math.sin(th);
-    }
-    t = { cos, sin };
-    if (s <= CACHE_MAX_SIZE * 2) twiddleCache.set(s, t);
-  }
-  return t;
 }
 
 /** Arithmetic mean (plain summation; the correlations only need it as a centring constant). */

@@ -5,9 +5,20 @@
  * conductivity, each with its uncertainty and fit window.
  */
 import type { Command } from 'commander';
-import { conductivityPass, parseChargeRules, type ConductivityResult } from '../../analyses/conductivity.js';
-import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
-import { addPlateauOptions, addWindowOptions, dTable, plateauOptions, windowOptions, type PlateauCliOptions, type WindowCliOptions } from './msd.js';
+import { analyseConductivity, conductivityLayout, conductivityPass, parseChargeRules, type ConductivityResult } from '../../analyses/conductivity.js';
+import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import {
+  addMemoryOption,
+  addPlateauOptions,
+  addWindowOptions,
+  batchedMsd,
+  dTable,
+  plateauOptions,
+  windowOptions,
+  type PlateauCliOptions,
+  type WindowCliOptions,
+} from './msd.js';
+import { planSiteBatches } from './batching.js';
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
@@ -16,6 +27,7 @@ import type { Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 
 interface ConductivityCliOptions extends TrajectoryOptions, WindowCliOptions, PlateauCliOptions {
+  maxMemory?: string;
   charges?: string;
   temperature: string;
   molecules?: boolean;
@@ -69,6 +81,7 @@ export function renderConductivity(file: string, r: ConductivityResult): string 
   out.push(`ratios: ${r.rules.ratios}`);
   out.push(`concentration: ${r.rules.concentration}`);
   out.push(`drift: ${r.driftNote}`);
+  if (r.memoryNote) out.push(`memory: ${r.memoryNote}`);
   for (const n of r.notes) out.push(`note: ${n}`);
   for (const s of r.species) for (const n of s.notes) out.push(`${s.label}: ${n}`);
   out.push('');
@@ -100,6 +113,7 @@ export function register(program: Command): void {
     .option('--csv <file>', 'write the collective MSD and running Green–Kubo conductivity to this CSV file');
   addWindowOptions(cmd);
   addPlateauOptions(cmd, false);
+  addMemoryOption(cmd);
   addTrajectoryOptions(cmd).action(async (file: string, opts: ConductivityCliOptions) => {
     const warnings: string[] = [];
     const temperature = parseQuantity(opts.temperature, 'temperature', '--temperature', 'K');
@@ -108,7 +122,7 @@ export function register(program: Command): void {
     if (opts.csv) refuseOverwritingInputs(opts.csv, [file]);
     const wo = windowOptions(opts);
     const po = plateauOptions(opts);
-    const pass = conductivityPass({
+    const copts = {
       ...wo,
       ...po,
       segments: wo.segments ?? po.segments,
@@ -117,9 +131,27 @@ export function register(program: Command): void {
       molecules: opts.molecules,
       keepDrift: opts.keepDrift,
       greenKubo: opts.greenKubo !== false,
-    });
-    const run = await runOnTrajectory(file, opts, [pass], warnings);
-    const results = finishPasses([pass], run.partials, run.ctx).conductivity as ConductivityResult;
+    };
+    const layoutSpec = conductivityLayout(copts);
+    // One read holds positions (+ velocities for Green–Kubo) of every ion; batched reads hold
+    // positions only, the collective sums Σq r and Σq v being kept per frame by the first read.
+    const plan = await planSiteBatches(file, opts, layoutSpec, copts.greenKubo ? 48 : 24, 24);
+    let results: ConductivityResult;
+    let run: TrajectoryRun;
+    if (plan) {
+      const mo = { fitFrom: wo.fitFrom, fitTo: wo.fitTo, tolerance: wo.tolerance, segments: copts.segments, nonGaussian: false };
+      const b = await batchedMsd(file, opts, plan, layoutSpec, !opts.keepDrift, mo, warnings, {
+        collectiveCharges: (l) => (l as ReturnType<typeof layoutSpec>).siteCharges,
+        collectiveVelocities: copts.greenKubo,
+      });
+      run = b.run;
+      const layout = layoutSpec(b.ctx.topology);
+      results = analyseConductivity(b.store, layout, b.ctx, copts, b.result, { reads: b.result.reads, bytesHeld: b.result.bytesHeld, note: b.result.memoryNote ?? undefined });
+    } else {
+      const pass = conductivityPass(copts);
+      run = await runOnTrajectory(file, opts, [pass], warnings);
+      results = finishPasses([pass], run.partials, run.ctx).conductivity as ConductivityResult;
+    }
     if (opts.csv) await writeFileAtomic(opts.csv, conductivityCsv(results));
     emit('conductivity', opts, [run.input], { ...opts }, results, warnings, () => renderConductivity(file, results));
   });

@@ -5,7 +5,29 @@
  * `vacf`, `diffusion` and `conductivity` commands.
  */
 import type { Command } from 'commander';
-import { msdPass, type MsdOptions, type MsdResult, type SpeciesLayoutOptions } from '../../analyses/msd.js';
+import {
+  addGroupSums,
+  finishMsd,
+  msdPass,
+  msdPlan,
+  msdSums,
+  planeComponents,
+  requireFrameInterval,
+  speciesLayout,
+  storePass,
+  storeBytes,
+  type GroupSums,
+  type MsdOptions,
+  type MsdPlan,
+  type MsdResult,
+  type SiteLayout,
+  type SpeciesLayoutOptions,
+  type StoreOptions,
+  type StorePartial,
+} from '../../analyses/msd.js';
+import { batchNote, groupSitesInBatch, planSiteBatches, readInBatches, type SiteBatchPlan } from './batching.js';
+import type { PassContext, Topology } from '../types.js';
+import type { TrajectoryRun } from './common.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
@@ -115,7 +137,54 @@ export function siteOptions(o: SiteCliOptions): SpeciesLayoutOptions & { keepDri
 /** D in the table unit 10⁻⁹ m²/s. */
 export const dTable = (q: Quantity | null) => formatQuantity(q, 1e9, '');
 
+/** Add --max-memory (the commands that store whole time series). */
+export function addMemoryOption(cmd: Command): Command {
+  return cmd.option(
+    '--max-memory <size>',
+    'largest memory for stored coordinates, e.g. 512MB or 2GB; beyond it the atoms are processed in batches, one read of the file each',
+  );
+}
+
+/** The MSD of a run whose sites did not fit in memory at once: one read per batch of sites. */
+export async function batchedMsd(
+  file: string,
+  opts: TrajectoryOptions,
+  plan: SiteBatchPlan,
+  layoutSpec: (t: Topology) => SiteLayout,
+  removeDrift: boolean,
+  mo: MsdOptions,
+  warnings: string[],
+  firstRead: Partial<StoreOptions> = {},
+): Promise<{ result: MsdResult; run: TrajectoryRun; store: StorePartial; layout: SiteLayout; ctx: PassContext }> {
+  let sums: GroupSums[] | null = null;
+  let mplan: MsdPlan | null = null;
+  let last: { run: TrajectoryRun; store: StorePartial; layout: SiteLayout } | null = null;
+  let held = 0;
+  let longSteps = 0;
+  let maxStep = 0;
+  let collective: Pick<StorePartial, 'collective' | 'collectiveVelocity' | 'collectiveAtomCharge'> | null = null;
+  const passesFor = (sites: Int32Array, i: number) => [storePass({ layout: layoutSpec, removeDrift, keepVelocities: false, sites, ...(i === 0 ? firstRead : {}) })];
+  await readInBatches(file, opts, plan, passesFor, warnings, (run, batch) => {
+    const store = run.partials[0] as StorePartial;
+    const layout = layoutSpec(run.ctx.topology);
+    mplan ??= msdPlan(store.frames, requireFrameInterval(run.ctx), mo, true);
+    const part = msdSums(store, layout, mplan, planeComponents(mo.plane), groupSitesInBatch(layout, batch));
+    sums = sums ? sums.map((s, i) => addGroupSums(s, part[i]!)) : part;
+    held = Math.max(held, storeBytes(store));
+    longSteps += store.longSteps;
+    maxStep = Math.max(maxStep, store.maxStepFraction);
+    collective ??= { collective: store.collective, collectiveVelocity: store.collectiveVelocity, collectiveAtomCharge: store.collectiveAtomCharge };
+    // Keep only the run's records (and the first read's collective series), not its coordinates.
+    last = { run, store: { ...store, ...collective, chunks: [], chunkFrames: [], velocityChunks: null, longSteps, maxStepFraction: maxStep }, layout };
+  });
+  const { run, store, layout } = last!;
+  const ctx: PassContext = { ...run.ctx, warnings };
+  const result = finishMsd(sums!, mplan!, store, layout, ctx, mo, { reads: plan.batches.length, bytesHeld: held, note: batchNote(plan, held) });
+  return { result, run, store, layout, ctx };
+}
+
 interface MsdCliOptions extends TrajectoryOptions, SiteCliOptions, WindowCliOptions {
+  maxMemory?: string;
   viscosity?: string;
   temperature?: string;
   alpha2?: boolean;
@@ -141,7 +210,7 @@ export function renderMsd(file: string, r: MsdResult): string {
   out.push(`fit window: ${r.rules.window}`);
   out.push(`drift: ${r.driftNote}`);
   if (r.yehHummer) out.push(`Yeh–Hummer: ΔD = ${formatSig(r.yehHummer.correction.value * 1e9, 4)}×10⁻⁹ m²/s; ${r.yehHummer.note}`);
-  out.push(`memory: ${formatSig(r.bytesHeld / 2 ** 20, 4)} MiB of coordinates held`);
+  out.push(r.memoryNote ? `memory: ${r.memoryNote}` : `memory: ${formatSig(r.bytesHeld / 2 ** 20, 4)} MiB of coordinates held`);
   for (const g of r.groups) {
     if (g.nonGaussian.length) {
       const peak = g.nonGaussian.reduce((a, b) => (b.value > a.value ? b : a));
@@ -184,6 +253,7 @@ export function register(program: Command): void {
     .description('mean-squared displacement and self-diffusion coefficient per species, with fit window and uncertainty');
   addSiteOptions(cmd);
   addWindowOptions(cmd);
+  addMemoryOption(cmd);
   cmd
     .option('--viscosity <eta>', 'solvent viscosity for the Yeh–Hummer finite-size correction, e.g. 0.89mPa.s (with --temperature)')
     .option('--temperature <T>', 'temperature for the Yeh–Hummer correction, e.g. 300K')
@@ -193,9 +263,18 @@ export function register(program: Command): void {
     const warnings: string[] = [];
     const mo = msdOptionsFrom(opts);
     if (opts.csv) refuseOverwritingInputs(opts.csv, [file]);
-    const pass = msdPass({ ...siteOptions(opts), ...mo });
-    const run = await runOnTrajectory(file, opts, [pass], warnings);
-    const results = finishPasses([pass], run.partials, run.ctx).msd as MsdResult;
+    const so = siteOptions(opts);
+    const layoutSpec = (t: Topology) => speciesLayout(t, so);
+    const plan = await planSiteBatches(file, opts, layoutSpec, 24);
+    let results: MsdResult;
+    let run: TrajectoryRun;
+    if (plan) {
+      ({ result: results, run } = await batchedMsd(file, opts, plan, layoutSpec, !so.keepDrift, mo, warnings));
+    } else {
+      const pass = msdPass({ ...so, ...mo });
+      run = await runOnTrajectory(file, opts, [pass], warnings);
+      results = finishPasses([pass], run.partials, run.ctx).msd as MsdResult;
+    }
     if (opts.csv) await writeFileAtomic(opts.csv, msdCsv(results));
     emit('msd', opts, [run.input], { ...opts }, results, warnings, () => renderMsd(file, results));
   });
