@@ -5,15 +5,23 @@
  *
  * Conventions (used in every function below):
  * - ρ(k) is the normalised autocorrelation of the mean-subtracted series, from the unbiased
- *   autocovariance C(k) = 1/(n−k) Σ (x_i − x̄)(x_{i+k} − x̄) (src/correlate.ts).
+ *   autocovariance C(k) = 1/(n−k) Σ (x_i − x̄)(x_{i+k} − x̄) (src/correlate.ts); Geyer's estimator
+ *   uses the biased γ(k) = (n−k)C(k)/n, as he prescribes.
  * - Integrated autocorrelation time in samples τ_int = Σ_{k≥1} ρ(k), statistical inefficiency
  *   g = 1 + 2τ_int (so g = 1 for uncorrelated samples; the convention of Chodera 2016). A. D. Sokal
  *   writes τ_int = 1/2 + Σ_{k≥1} ρ(k) = g/2 instead; the two differ by half a sample.
  * - Effective samples n/g; standard error of the mean σ·√(g/n) with σ the sample standard
  *   deviation (n−1 denominator).
+ * - The primary estimate of g is Geyer's initial monotone sequence estimator (`geyerInefficiency`):
+ *   it sums the autocovariances in adjacent pairs, so negative early lags (pressure, NVE energies)
+ *   do not stop the sum before a slow positive part has been counted. Sokal's self-consistent
+ *   window (`sokalWindow`) is reported beside it as a second opinion; it can stop at lag 1 when
+ *   ρ(1) < 0 (see there), which is why it is no longer the primary estimate.
  * - g is floored at 1 (an anti-correlated series is treated as uncorrelated: conservative).
  * - "Production region" = samples [t0, N) after the detected equilibration point t0; every
  *   statistic in the report except the equilibration search itself uses only that region.
+ * - The reported standard error is the autocorrelation estimate σ√(g/n) when block averaging
+ *   agrees with it, and the larger of the two otherwise (rule and reasons at `analyseSeries`).
  */
 import * as ss from 'simple-statistics';
 import { regionAutocovariances, nextPowerOfTwo, type Baseline } from '../src/correlate.js';
@@ -123,6 +131,14 @@ export interface WindowEstimate {
  * the smallest window ≥ 1 with M ≥ c·τ_S(M), τ_S(M) = 1/2 + τ_int(M) being Sokal's own
  * definition (so the criterion reads M ≥ c·g(M)/2). If no M ≤ maxWindow qualifies, the value at
  * maxWindow is returned with resolved = false. g = max(1, 1 + 2τ_int).
+ *
+ * Second opinion only. The criterion trusts the running estimate, which assumes ρ(k) is mostly
+ * positive and decays roughly exponentially, the case Sokal recommends it for. When ρ(1) is strongly negative it stops at
+ * once: a slow AR(1) part (φ = 0.99, variance share 11 %) plus a differenced white noise gives
+ * ρ(1) = −0.33, τ_S(1) = 0.17 and 1 ≥ 5·0.17, so M = 1 and g = 1 while the exact g is 22
+ * (closed form in test/converge.test.ts). Waiting for τ_int(M) > 0 does not help: the sum turns
+ * positive at M = 5 with τ_S(5) = 0.6 and the criterion is met there too (g = 1.2). Geyer's
+ * pairwise estimator below has no such failure, so it is the primary estimate.
  */
 export function sokalWindow(
   rho: Float64Array,
@@ -144,8 +160,10 @@ function windowResult(window: number, tau: number, resolved: boolean): WindowEst
 }
 
 /**
- * Relative standard error of the windowed estimate of g (equivalently of Sokal's τ = g/2):
- * √(2(2M+1)/n) (Sokal 1997, variance of τ̂_int; Madras & Sokal 1988), valid for M ≪ n.
+ * Relative standard error of a g (equivalently of Sokal's τ = g/2) summed over lags 1 … M:
+ * √(2(2M+1)/n) (Sokal 1997, variance of τ̂_int for a window M; Madras & Sokal 1988), valid for
+ * M ≪ n. Used for Geyer's estimate with M its largest lag (its data-chosen, monotone-smoothed
+ * truncation is not a fixed window, so this is an approximation; the AR(1) tests bound it).
  */
 export function windowRelativeError(window: number, n: number): number {
   return Math.sqrt((2 * (2 * window + 1)) / n);
@@ -157,20 +175,31 @@ export interface GeyerEstimate {
   g: number;
   /** Number of pair sums Γ_m used. */
   pairs: number;
-  /** False when the sequence was still positive at the last available lag. */
+  /** Largest lag summed, 2·pairs − 1 (0 when no pair was used). */
+  window: number;
+  /** False when the sequence was still positive at the last available lag: g is then a lower estimate. */
   resolved: boolean;
 }
 
 /**
- * Geyer's initial monotone sequence estimator (C. J. Geyer, Statist. Sci. 7, 473 (1992)).
- * From biased autocovariances γ(k) = (1/n)Σ(x_i−x̄)(x_{i+k}−x̄): pair sums Γ_m = γ(2m) + γ(2m+1),
- * kept while positive (initial positive sequence), each replaced by the minimum of those before
- * it (initial monotone sequence); asymptotic variance σ² = −γ(0) + 2 Σ_m Γ_m; g = σ²/γ(0),
- * floored at 1. For AR(1), γ(k) ∝ φ^k and g = (1+φ)/(1−φ) exactly.
+ * Geyer's initial monotone sequence estimator (C. J. Geyer, Statist. Sci. 7, 473 (1992), §3.3),
+ * the primary estimate of g. From biased autocovariances γ(k) = (1/n)Σ(x_i−x̄)(x_{i+k}−x̄): pair
+ * sums Γ_m = γ(2m) + γ(2m+1), kept while positive (initial positive sequence), each replaced by
+ * the minimum of those before it (initial monotone sequence); asymptotic variance
+ * σ² = −γ(0) + 2 Σ_m Γ_m; g = σ²/γ(0), floored at 1.
+ *
+ * Why this estimator: for a reversible Markov chain Γ_m = ∫ λ^{2m}(1+λ) dE(λ) with λ ∈ [−1, 1],
+ * so the true pair sums are positive and decreasing whatever the sign of ρ(1) — a negative ρ(1)
+ * (fast oscillation, e.g. pressure or the total energy of an NVE run) is absorbed into Γ_0 instead
+ * of stopping the sum — and the estimator is consistent and asymptotically conservative (Geyer
+ * 1992, Theorem 3.2: it overestimates σ² as n → ∞, from memory). Truncation at the first
+ * non-positive pair replaces Sokal's c-window, which needs the unknown g itself. For AR(1),
+ * γ(k) ∝ φ^k and g = (1+φ)/(1−φ) exactly; for a damped oscillation it stops inside the first
+ * negative lobe, dropping a tail whose sum is negative, so it errs on the large side.
  */
 export function geyerInefficiency(gamma: Float64Array, maxLag = gamma.length - 1): GeyerEstimate {
   const g0 = gamma[0]!;
-  if (!(g0 > 0)) return { g: 1, pairs: 0, resolved: true };
+  if (!(g0 > 0)) return { g: 1, pairs: 0, window: 0, resolved: true };
   let sum = 0;
   let prev = Infinity;
   let m = 0;
@@ -186,30 +215,42 @@ export function geyerInefficiency(gamma: Float64Array, maxLag = gamma.length - 1
     sum += pair;
   }
   const g = (-g0 + 2 * sum) / g0;
-  return { g: Math.max(1, g), pairs: m, resolved };
+  return { g: Math.max(1, g), pairs: m, window: Math.max(0, 2 * m - 1), resolved };
+}
+
+/** Geyer's estimate from unbiased autocovariances C(0 … maxLag) of a region of n samples. */
+function geyerFromCovariance(cov: Float64Array, n: number, maxLag: number): GeyerEstimate {
+  const gamma = new Float64Array(maxLag + 1);
+  for (let j = 0; j <= maxLag; j++) gamma[j] = (cov[j]! * (n - j)) / n;
+  return geyerInefficiency(gamma, maxLag);
 }
 
 /** Full estimate of the statistical inefficiency of one region. */
 export interface InefficiencyEstimate {
-  /** g from Sokal's window (primary). */
+  /** g from Geyer's initial monotone sequence (primary). */
   g: number;
   /** τ_int = (g−1)/2 in samples. */
   tauInt: number;
-  /** Standard error of τ_int (and of Sokal's τ = g/2) in samples: (g/2)·√(2(2M+1)/n). */
+  /** Standard error of τ_int (and of Sokal's τ = g/2) in samples: (g/2)·√(2(2M+1)/n), M = `window`. */
   tauIntError: number;
+  /** Largest lag summed by Geyer's estimator. */
   window: number;
+  /** Geyer's sequence ended (a non-positive pair sum) within the lag cap. */
   resolved: boolean;
-  /** Geyer's initial monotone sequence estimate (second opinion). */
+  /** Geyer's initial monotone sequence estimate (the primary one, in full). */
   geyer: GeyerEstimate;
+  /** Sokal's window (second opinion, see `sokalWindow` for when it fails). */
+  sokal: WindowEstimate;
 }
 
 /**
- * Statistical inefficiency of a whole series: Sokal window (primary) and Geyer's initial monotone
- * sequence (second estimate). The autocovariance is computed by FFT up to a maximum lag (first
- * max(256, startLag), see `suggestedStartLag`) that is raised ×8 until both estimators terminate or their caps are reached: the window may
- * use at most windowFraction·n lags (default n/4; see `windowFractionFor`); Geyer's sequence at most half (n/2, so that every lag
- * used averages over ≥ n/2 pairs) and, being the second opinion, at most max(256, 10·M) lags with
- * M Sokal's window (or n/4 when the window is unresolved), which keeps drifting series from
+ * Statistical inefficiency of a whole series: Geyer's initial monotone sequence (primary) and
+ * Sokal's window (second opinion). The autocovariance is computed by FFT up to a maximum lag
+ * (first max(256, startLag), see `suggestedStartLag`) that is raised ×8 until both estimators
+ * terminate or their caps are reached. Geyer's sequence may use at most windowFraction·n lags
+ * (default n/4; see `windowFractionFor`): beyond that it is unresolved and g a lower estimate.
+ * Sokal's window, being the second opinion, may use at most max(256, 10·M) lags with M Geyer's
+ * largest lag (or the same cap when Geyer is unresolved), which keeps drifting series from
  * forcing an all-lags transform. With `baseline` the residuals x_i − (a + b·i) are analysed
  * (without copying the series). Constant series: g = 1.
  */
@@ -220,32 +261,35 @@ export function inefficiency(
   const n = x.length;
   const c = opts.c ?? SOKAL_WINDOW_CONSTANT;
   if (n < 2) throw new AnalysisError('statistical inefficiency needs at least 2 samples');
-  const windowCap = Math.max(1, Math.floor(n * Math.min(0.25, opts.windowFraction ?? 0.25)));
+  const cap = Math.max(1, Math.floor(n * Math.min(0.25, opts.windowFraction ?? 0.25)));
   let k = Math.min(Math.max(256, Math.ceil(opts.startLag ?? 0)), n - 1);
   for (;;) {
     const cov = regionAutocovariances(x, [0], k, { baseline: opts.baseline })[0]!;
     if (!(cov[0]! > 0)) {
-      return { g: 1, tauInt: 0, tauIntError: 0, window: 0, resolved: true, geyer: { g: 1, pairs: 0, resolved: true } };
-    }
-    const rho = normaliseCovariance(cov, k);
-    const w = sokalWindow(rho, c, Math.min(k, windowCap));
-    const gamma = new Float64Array(k + 1);
-    for (let j = 0; j <= k; j++) gamma[j] = (cov[j]! * (n - j)) / n;
-    const geyerCap = Math.max(
-      1,
-      Math.min(Math.floor(n / 2), w.resolved ? Math.max(256, 10 * w.window) : windowCap),
-    );
-    const gy = geyerInefficiency(gamma, Math.min(k, geyerCap));
-    const windowDone = w.resolved || k >= windowCap;
-    const geyerDone = gy.resolved || k >= geyerCap;
-    if ((windowDone && geyerDone) || k >= n - 1) {
       return {
-        g: w.g,
-        tauInt: w.tauInt,
-        tauIntError: (w.g / 2) * windowRelativeError(w.window, n),
-        window: w.window,
-        resolved: w.resolved,
+        g: 1,
+        tauInt: 0,
+        tauIntError: 0,
+        window: 0,
+        resolved: true,
+        geyer: { g: 1, pairs: 0, window: 0, resolved: true },
+        sokal: { g: 1, tauInt: 0, window: 0, resolved: true },
+      };
+    }
+    const gy = geyerFromCovariance(cov, n, Math.min(k, cap));
+    const sokalCap = Math.max(1, Math.min(cap, gy.resolved ? Math.max(256, 10 * gy.window) : cap));
+    const w = sokalWindow(normaliseCovariance(cov, k), c, Math.min(k, sokalCap));
+    const geyerDone = gy.resolved || k >= cap;
+    const sokalDone = w.resolved || k >= sokalCap;
+    if ((geyerDone && sokalDone) || k >= n - 1) {
+      return {
+        g: gy.g,
+        tauInt: (gy.g - 1) / 2,
+        tauIntError: (gy.g / 2) * windowRelativeError(gy.window, n),
+        window: gy.window,
+        resolved: gy.resolved,
         geyer: gy,
+        sokal: w,
       };
     }
     k = Math.min(n - 1, 8 * k);
@@ -253,22 +297,28 @@ export function inefficiency(
 }
 
 /**
- * Largest useful window as a fraction of the region for a given effective-sample threshold:
- * Sokal's criterion gives M ≥ c·g/2, so a window longer than c·n/(2·minEffective) would mean
- * g > n/minEffective, i.e. fewer effective samples than the threshold; the search stops there
- * (the series is then unreliable anyway, and long windows are what make the FFTs expensive).
- * Capped at 1/4. For c = 5 and the default 50 effective samples: n/20.
+ * Largest useful lag range as a fraction of the region for a given effective-sample threshold
+ * N_min. Sokal's criterion gives M ≥ c·g/2, so a window longer than c·n/(2·N_min) would mean
+ * g > n/N_min, i.e. fewer effective samples than the threshold. Geyer's sequence, for an
+ * exponential decay ρ(k) = e^{−k/τ} (g ≈ 2τ), ends where the pair sum 2γ(0)e^{−K/τ} sinks into
+ * its noise ≈ γ(0)√(2g/n) (Bartlett 1946 variance of ρ̂, var ρ̂(k) ≈ Σ_j ρ(j)²/n ≈ τ/n), i.e. after
+ * K ≈ (g/4)·ln(2n/g) lags. Still running at K = c·n/(2·N_min) lags then means
+ * n/g < N_min·ln(2n/g)/(2c): with c = 5 and N_min = 50, fewer than ≈ 18 effective samples.
+ * So the same cap serves both estimators and never cuts off a series that would pass the
+ * threshold (long lag ranges are also what make the FFTs expensive). Capped at 1/4. For c = 5
+ * and the default 50 effective samples: n/20.
  */
 export function windowFractionFor(minEffective: number, c = SOKAL_WINDOW_CONSTANT): number {
   return Math.min(0.25, c / (2 * minEffective));
 }
 
 /**
- * A first lag range for the windowed estimate, from block averaging (O(n), no FFT): g_b =
- * (SE_b/SE_1)² with SE_b the plateau SE, or the largest SE among levels with ≥ 16 blocks when
- * there is no plateau (Flyvbjerg & Petersen 1989: SE² at block size m → σ²g/n). Sokal's window is
- * then ≈ c·g/2; we return 1.5 × that so that one FFT round usually suffices. Only a speed hint:
- * the estimators enlarge the range themselves when it is too short.
+ * A first lag range for the autocorrelation estimators, from block averaging (O(n), no FFT):
+ * g_b = (SE_b/SE_1)² with SE_b the plateau SE, or the largest SE among levels with ≥ 16 blocks
+ * when there is no plateau (Flyvbjerg & Petersen 1989: SE² at block size m → σ²g/n). Sokal's
+ * window is then ≈ c·g/2 (and Geyer's sequence, for exponential decays, ends at a similar lag);
+ * we return 1.5 × that so that one FFT round usually suffices. Only a speed hint: the estimators
+ * enlarge the range themselves when it is too short.
  */
 export function suggestedStartLag(b: BlockingResult, c = SOKAL_WINDOW_CONSTANT): number {
   const se0 = b.standardErrors[0];
@@ -284,27 +334,27 @@ export function suggestedStartLag(b: BlockingResult, c = SOKAL_WINDOW_CONSTANT):
 }
 
 /**
- * Sokal-window g for the tail regions x[o, N) of many origins at once (one FFT pass per round,
- * see `regionAutocovariances`), for the equilibration search. The lag range starts at 64 and
- * grows ×8 for origins whose window is not yet found, up to windowFraction of each region
- * (unresolved regions then keep the value at that cap). Two economies, neither of which can
- * change the winner of the search (maximum (N−o)/g):
- * - an origin still unresolved at window M has g(M) > 2M/c, so (N−o)/g < c(N−o)/(2M); once this
- *   bound is below the best resolved (N−o)/g it is settled with its current value;
+ * Geyer-sequence g (see `geyerInefficiency`) for the tail regions x[o, N) of many origins at once
+ * (one FFT pass per round, see `regionAutocovariances`), for the equilibration search. The lag
+ * range starts at max(64, startLag) (see `suggestedStartLag`) and grows ×8 for origins whose
+ * sequence has not yet ended, up to windowFraction of each region (unresolved regions then keep
+ * the value at that cap). Two economies, neither of which can change the winner of the search
+ * (maximum (N−o)/g):
+ * - the pairs still to come are positive, so an unresolved origin's g can only grow: its current
+ *   value g_K bounds (N−o)/g ≤ (N−o)/g_K; once this bound is at most the best resolved (N−o)/g
+ *   the origin is settled with its current value;
  * - when the transform length S becomes long the pending origins are thinned to at most
  *   max(8, N/L), L = S − maxLag the chunk length, evenly spaced (such regions have few effective
  *   samples), so that a round never costs more than ≈ 3N/L transforms; thinned origins get null.
- * The lag range starts at max(64, startLag) (see `suggestedStartLag`).
  */
 export function inefficiencyScan(
   x: Float64Array,
   origins: readonly number[],
-  opts: { c?: number; windowFraction?: number; startLag?: number } = {},
-): Array<WindowEstimate | null> {
+  opts: { windowFraction?: number; startLag?: number } = {},
+): Array<GeyerEstimate | null> {
   const n = x.length;
-  const c = opts.c ?? SOKAL_WINDOW_CONSTANT;
   const windowFraction = opts.windowFraction ?? 0.25;
-  const out: Array<WindowEstimate | null> = origins.map(() => null);
+  const out: Array<GeyerEstimate | null> = origins.map(() => null);
   let pending = origins.map((_, i) => i);
   let best = 0; // largest (N − o)/g among resolved origins
   let k = Math.min(Math.max(64, Math.ceil(opts.startLag ?? 0)), n - 1);
@@ -317,26 +367,26 @@ export function inefficiencyScan(
       pending = thinned;
     }
     const covs = regionAutocovariances(x, pending.map((i) => origins[i]!), k);
-    const open: Array<{ idx: number; w: WindowEstimate; bound: number }> = [];
+    const open: Array<{ idx: number; gy: GeyerEstimate; bound: number }> = [];
     pending.forEach((idx, j) => {
       const len = n - origins[idx]!;
       const cap = Math.max(1, Math.floor(len * Math.min(0.25, windowFraction)));
       const cov = covs[j]!;
       if (!(cov[0]! > 0)) {
-        out[idx] = { window: 0, tauInt: 0, g: 1, resolved: true };
+        out[idx] = { g: 1, pairs: 0, window: 0, resolved: true };
         best = Math.max(best, len);
         return;
       }
-      const maxW = Math.min(k, cap);
-      const w = sokalWindow(normaliseCovariance(cov, maxW), c, maxW);
-      if (w.resolved || maxW >= cap || k >= n - 1) {
-        out[idx] = w;
-        if (w.resolved) best = Math.max(best, len / w.g);
-      } else open.push({ idx, w, bound: (c * len) / (2 * maxW) });
+      const maxL = Math.min(k, cap);
+      const gy = geyerFromCovariance(cov, len, maxL);
+      if (gy.resolved || maxL >= cap || k >= n - 1) {
+        out[idx] = gy;
+        if (gy.resolved) best = Math.max(best, len / gy.g);
+      } else open.push({ idx, gy, bound: len / gy.g });
     });
     const next: number[] = [];
     for (const o of open) {
-      if (o.bound <= best) out[o.idx] = o.w;
+      if (o.bound <= best) out[o.idx] = o.gy;
       else next.push(o.idx);
     }
     pending = next;
@@ -431,30 +481,73 @@ export function blockingAnalysis(x: Float64Array): BlockingResult {
   return { sizes, blocks, standardErrors: se, errorsOfStandardErrors: dse, lagOneCorrelations: r1, plateau };
 }
 
-/** One-sided 5 % point of the standard normal, Φ⁻¹(0.95) = 1.645 (standard normal table). */
-export const PLATEAU_Z = 1.6449;
+/** Significance level of the plateau test: 1 %, the level Jonsson (2018) uses. */
+export const PLATEAU_ALPHA = 0.01;
 
 /**
- * Plateau rule: the first level with at least PLATEAU_MIN_BLOCKS = 16 blocks whose block means
- * look independent, judged by their lag-1 autocorrelation: (r₁ + 1/n_b)·√n_b < 1.645, a one-sided
- * 5 % test of zero correlation (for independent values r₁ has standard error ≈ 1/√n_b, M. S.
- * Bartlett, J. R. Statist. Soc. Suppl. 8, 27 (1946), and mean ≈ −1/n_b, P. A. P. Moran 1948,
- * from memory). Once blocks are longer than
- * the correlation time their means are uncorrelated and the SE has reached its plateau (Flyvbjerg
- * & Petersen 1989). This is a one-level simplification of the test of M. Jonsson, Phys. Rev. E 98,
- * 043304 (2018), which combines the lag-1 covariances of all later levels in a χ² statistic.
- * In our trials with AR(1) series (10⁵ samples, g up to 99) the chosen level's SE was within 2 %
- * on average of the exact value; with 5 % each test passes a still-correlated level that is only
- * slightly correlated, which biases the plateau SE low by a few per cent at most. Null when no
- * level qualifies (the series is too short for its correlation time).
+ * Upper-α point of the χ² distribution with k degrees of freedom, P(χ²_k > q) = α: from the
+ * percentage-point table in simple-statistics (`chiSquaredDistributionTable`, after Hines &
+ * Montgomery 1980, Table III; k = 1 … 30 and 40, 50, … 100, α ∈ {0.005, 0.01, 0.025, 0.05, 0.1})
+ * where it lists k, otherwise the Wilson–Hilferty approximation
+ * q ≈ k(1 − 2/(9k) + z_α√(2/(9k)))³ with z_α the upper-α normal point (E. B. Wilson and
+ * M. M. Hilferty, Proc. Natl. Acad. Sci. 17, 684 (1931); relative error below 0.1 % for k ≥ 30).
+ */
+export function chiSquaredUpperPoint(k: number, alpha = PLATEAU_ALPHA): number {
+  if (!(Number.isInteger(k) && k >= 1)) throw new AnalysisError(`χ² degrees of freedom must be a positive integer, got ${k}`);
+  const table = ss.chiSquaredDistributionTable as unknown as Record<number, Record<string, number> | undefined>;
+  const listed = table[k]?.[String(alpha)];
+  if (listed !== undefined) return listed;
+  const z = UPPER_NORMAL_POINTS[alpha];
+  if (z === undefined) throw new AnalysisError(`no normal point for α = ${alpha}`);
+  const a = 2 / (9 * k);
+  return k * (1 - a + z * Math.sqrt(a)) ** 3;
+}
+
+/** Upper-α points of the standard normal, Φ⁻¹(1 − α) (standard normal table). */
+const UPPER_NORMAL_POINTS: Record<number, number> = { 0.005: 2.5758, 0.01: 2.3263, 0.025: 1.96, 0.05: 1.6449, 0.1: 1.2816 };
+
+/**
+ * Plateau rule, a cumulative two-sided test of the lag-1 correlation of block means after
+ * M. Jonsson, Phys. Rev. E 98, 043304 (2018). Levels l = 0 … L−1 are those with at least
+ * PLATEAU_MIN_BLOCKS = 16 blocks. For independent block means the lag-1 autocorrelation r₁ of n_b
+ * means has mean ≈ −1/n_b (P. A. P. Moran 1948, from memory) and standard error ≈ 1/√n_b (M. S.
+ * Bartlett, J. R. Statist. Soc. Suppl. 8, 27 (1946)), so z_l = (r₁ + 1/n_b)·√n_b is ≈ N(0, 1) and
+ * the levels are nearly independent of one another (Jonsson 2018, from memory). The plateau is the first level
+ * j whose statistic M_j = Σ_{l=j}^{L−1} z_l² stays below the upper 1 % point of χ² with L − j
+ * degrees of freedom (Jonsson's test) and whose own z_j² stays below the upper 1 % point of χ²
+ * with 1 degree of freedom, 6.63 (|z_j| < 2.576).
+ *
+ * Why this form: (1) two-sided — z² rejects strongly negative r₁ as well as positive; a one-sided
+ * test accepted block size 1 of a series with ρ(1) = −0.33 whose SE then still grows 4.7-fold.
+ * (2) Cumulative — in expectation SE²_{2m} = SE²_m·(1 + r₁(m)), r₁(m) the lag-1 correlation of
+ * means of m samples (the variance of the mean of two of them is var·(1 + r₁)/2), so a later level whose SE is still rising shows up as a positive
+ * r₁ there, and M_j rejects level j whenever any later level is significantly correlated, i.e.
+ * whenever a later SE is significantly larger. Summing squares instead of taking the maximum keeps
+ * one chance excursion of one level from pushing the plateau far out: the χ² point grows with
+ * the number of levels tested. (3) The level's own test — on its own M_j dilutes one clearly
+ * correlated level among many later quiet ones: for a slow AR(1) part (φ = 0.99) plus differenced
+ * noise, 2^20 samples, the level of 512-sample blocks had z² = 10.9 but M_j = 17.7 < 20.1 (8
+ * degrees of freedom), and its SE was still 12 % below the exact one. Each test is at 1 %, so a
+ * genuine plateau level is passed over with probability ≈ 2 %, which only moves the choice one
+ * level up. Levels with fewer than 16 blocks are left out (their r₁ is far from normal and the
+ * SE's relative error exceeds 18 %). Null when no level qualifies: the blocked standard error has
+ * not stopped growing at the largest usable block size.
  */
 export function blockingPlateau(
   b: Pick<BlockingResult, 'sizes' | 'blocks' | 'standardErrors' | 'errorsOfStandardErrors' | 'lagOneCorrelations'>,
 ): BlockingResult['plateau'] {
-  for (let l = 0; l < b.sizes.length; l++) {
+  let levels = 0;
+  while (levels < b.sizes.length && b.blocks[levels]! >= PLATEAU_MIN_BLOCKS) levels++;
+  const z2 = new Float64Array(levels);
+  const suffix = new Float64Array(levels + 1);
+  for (let l = levels - 1; l >= 0; l--) {
     const nb = b.blocks[l]!;
-    if (nb < PLATEAU_MIN_BLOCKS) break;
-    if ((b.lagOneCorrelations[l]! + 1 / nb) * Math.sqrt(nb) < PLATEAU_Z) {
+    z2[l] = ((b.lagOneCorrelations[l]! + 1 / nb) * Math.sqrt(nb)) ** 2;
+    suffix[l] = suffix[l + 1]! + z2[l]!;
+  }
+  const single = chiSquaredUpperPoint(1);
+  for (let l = 0; l < levels; l++) {
+    if (z2[l]! < single && suffix[l]! < chiSquaredUpperPoint(levels - l)) {
       return { level: l, size: b.sizes[l]!, standardError: b.standardErrors[l]!, error: b.errorsOfStandardErrors[l]! };
     }
   }
@@ -481,14 +574,15 @@ export interface EquilibrationResult {
 /**
  * Equilibration point by maximising the effective sample count of the remaining data
  * (J. D. Chodera, J. Chem. Theory Comput. 12, 1799 (2016)): t0 = argmax_{t0} (N − t0)/g(t0), g from
- * Sokal's window on x[t0, N). Candidate origins: at most `candidates` (default 200) evenly spaced
- * origins 0, s, 2s, … with s = ⌈(N − minRegion + 1)/candidates⌉, keeping at least `minRegion`
- * (default 20) samples after the last one; all evaluated together by `inefficiencyScan`.
- * Ties go to the earliest origin.
+ * Geyer's initial monotone sequence on x[t0, N) (the primary estimator, see `geyerInefficiency`).
+ * Candidate origins: at most `candidates` (default 200) evenly spaced origins 0, s, 2s, … with
+ * s = ⌈(N − minRegion + 1)/candidates⌉, keeping at least `minRegion` (default 20) samples after
+ * the last one; all evaluated together by `inefficiencyScan`. Ties go to the earliest origin.
+ * An origin whose sequence is unresolved at the lag cap enters with its lower estimate of g.
  */
 export function detectEquilibration(
   x: Float64Array,
-  opts: { candidates?: number; minRegion?: number; c?: number; windowFraction?: number; startLag?: number } = {},
+  opts: { candidates?: number; minRegion?: number; windowFraction?: number; startLag?: number } = {},
 ): EquilibrationResult {
   const n = x.length;
   const minRegion = Math.min(opts.minRegion ?? MIN_SAMPLES, n);
@@ -618,7 +712,7 @@ export interface HalvesResult {
   consistent: boolean;
 }
 
-/** Mean and its standard error σ·√(g/n), g from Sokal's window on the same data. */
+/** Mean and its standard error σ·√(g/n), g from Geyer's initial monotone sequence on the same data (`inefficiency`). */
 export function meanWithError(
   x: Float64Array,
   opts: { windowFraction?: number; startLag?: number } = {},
@@ -677,10 +771,19 @@ export interface SeriesReport {
   name: string;
   samples: number;
   mean: Quantity;
+  /** Reported standard error of the mean (rule at `combineStandardErrors`). */
   standardError: number;
+  /** Which estimate `standardError` is: see `CombinedStandardError.source`. */
+  standardErrorSource: CombinedStandardError['source'];
+  /** σ√(g/n) with g from Geyer's estimator, before the comparison with block averaging. */
+  autocorrelationStandardError: number;
+  /** g behind the reported standard error: SE = σ√(g/n). Geyer's g unless blocking gave the larger SE. */
   statisticalInefficiency: number;
   integratedAutocorrelationTime: Quantity;
+  /** Geyer's initial monotone sequence estimate (the autocorrelation estimate of g). */
   geyerStatisticalInefficiency: number;
+  /** Sokal's self-consistent window estimate (second opinion; fooled by negative early correlations). */
+  sokalStatisticalInefficiency: number;
   equilibrationIndex: number;
   equilibrationTime: Quantity | null;
   mserIndex: number;
@@ -697,6 +800,62 @@ export interface SeriesReport {
   verdict: string;
   reliable: boolean;
   extraTimeNeeded: Quantity | null;
+}
+
+/** The standard error that `analyseSeries` reports, and where it came from. */
+export interface CombinedStandardError {
+  standardError: number;
+  /** Standard error of that standard error. */
+  error: number;
+  /**
+   * 'autocorrelation': σ√(g/n) with Geyer's g; 'blocking plateau': the plateau level's blocked SE;
+   * 'largest blocks': no plateau, the largest blocked SE among levels with ≥ 16 blocks (a lower
+   * estimate of the true SE).
+   */
+  source: 'autocorrelation' | 'blocking plateau' | 'largest blocks';
+  /** A plateau exists and |SE_plateau − SE_acf| ≤ 2.576·√(δ_plateau² + δ_acf²) (two-sided 1 %). */
+  agrees: boolean;
+}
+
+/**
+ * The reported standard error from the autocorrelation estimate SE_acf ± δ_acf and the block
+ * averaging table (Flyvbjerg & Petersen 1989, plateau rule in `blockingPlateau`):
+ * - plateau, and the two agree within 2.576 combined standard errors (two-sided 1 %): SE_acf, the
+ *   more precise of two consistent estimates;
+ * - plateau, and they disagree: max(SE_acf, SE_plateau); the same when SE_acf is only a lower
+ *   bound (`lowerBound`: Geyer's sequence still positive at the lag cap), agreement or not;
+ * - no plateau: max(SE_acf, largest blocked SE among the levels with ≥ 16 blocks); the caller
+ *   flags the series as not reliable, since that blocked SE was still growing.
+ *
+ * Why the larger one rather than only a warning: the two methods fail in opposite directions.
+ * An autocorrelation sum misses whatever correlation lies beyond the lag where it stops (a slow
+ * component hidden behind fast noise or oscillations, a drift), which makes it too small; a
+ * plateau chosen too early is also too small, while one from too few blocks is noisy either way.
+ * An error bar that is too small is the harmful mistake — it makes differences look significant —
+ * whereas one that is too large only costs precision, so when they disagree the larger is the
+ * defensible number (common practice, no source for the exact rule). A disagreement alone does
+ * not mark the series unreliable: the larger estimate is still a sound, if pessimistic, error bar;
+ * the verdict names both values.
+ */
+export function combineStandardErrors(
+  acf: { standardError: number; error: number; lowerBound?: boolean },
+  b: Pick<BlockingResult, 'blocks' | 'standardErrors' | 'errorsOfStandardErrors' | 'plateau'>,
+): CombinedStandardError {
+  const fromAcf = { standardError: acf.standardError, error: acf.error };
+  if (b.plateau) {
+    const p = b.plateau;
+    const agrees = Math.abs(p.standardError - acf.standardError) <= SIGNIFICANCE_Z * Math.hypot(p.error, acf.error);
+    if ((agrees && !acf.lowerBound) || p.standardError <= acf.standardError) return { ...fromAcf, source: 'autocorrelation', agrees };
+    return { standardError: p.standardError, error: p.error, source: 'blocking plateau', agrees };
+  }
+  let largest = -1;
+  for (let l = 0; l < b.blocks.length && b.blocks[l]! >= PLATEAU_MIN_BLOCKS; l++) {
+    if (largest < 0 || b.standardErrors[l]! > b.standardErrors[largest]!) largest = l;
+  }
+  if (largest >= 0 && b.standardErrors[largest]! > acf.standardError) {
+    return { standardError: b.standardErrors[largest]!, error: b.errorsOfStandardErrors[largest]!, source: 'largest blocks', agrees: false };
+  }
+  return { ...fromAcf, source: 'autocorrelation', agrees: false };
 }
 
 /**
@@ -741,17 +900,21 @@ function checkOptions(opts: SeriesOptions): void {
 
 /**
  * Full convergence report of one series: equilibration point t0 (Chodera 2016, maximum effective
- * samples; MSER-5 as second opinion), and on the production region [t0, N): mean with standard
- * error σ√(g/n), g from Sokal's window (Geyer's estimator alongside), block averaging with its
- * plateau and agreement check, drift and halves tests, and a verdict in plain words.
+ * samples; MSER-5 as second opinion), and on the production region [t0, N): the autocorrelation
+ * standard error σ√(g/n) with g from Geyer's initial monotone sequence (Sokal's window alongside),
+ * block averaging with its plateau (cumulative χ² test, `blockingPlateau`), the reported standard
+ * error from both (`combineStandardErrors`), drift and halves tests, and a verdict in plain words.
+ * The reported g is the one behind the reported SE, g = n·SE²/σ², and the effective samples n/g.
  *
- * The correlation window is searched up to windowFractionFor(minEffective)·n lags (n/20 by
- * default): a longer window would already mean fewer than minEffective effective samples.
+ * The correlation sums use at most windowFractionFor(minEffective)·n lags (n/20 by default):
+ * needing more would already mean fewer than minEffective effective samples.
  *
- * reliable = at least `minEffective` effective samples, correlation time resolved, no significant
- * drift, consistent halves, and — when a target is given — standard error ≤ target. A
- * disagreement between blocking and autocorrelation errors, or an MSER point well after t0, is
- * reported in the verdict as a caution but does not by itself make the series unreliable.
+ * reliable = at least `minEffective` effective samples, correlation time resolved, a blocking
+ * plateau (without one the blocked SE is still growing at the largest usable block size, so no
+ * error bar can be trusted: a lower estimate is reported), no significant drift, consistent
+ * halves, and — when a target is given — standard error ≤ target. A disagreement between the
+ * blocking and autocorrelation errors (the larger is reported), or an MSER point well after t0,
+ * is a caution in the verdict but does not by itself make the series unreliable.
  *
  * Errors: NaN or ±∞ in the values → InputError (file = series name); fewer than MIN_SAMPLES (20)
  * samples → AnalysisError ("too short"); bad options → UsageError; a relative target for a series
@@ -796,16 +959,17 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
   const est = inefficiency(prod, { windowFraction, startLag });
   const mean = seriesMean(prod);
   const sd = seriesStandardDeviation(prod);
-  const se = sd * Math.sqrt(est.g / np);
-  const relErrG = windowRelativeError(est.window, np);
-  const seError = (se * relErrG) / 2; // SE ∝ √g
-  const nEff = np / est.g;
+  const seAcf = sd * Math.sqrt(est.g / np);
+  const relErrAcf = windowRelativeError(est.window, np);
+  // SE ∝ √g, so its relative error is half that of g.
+  const combined = combineStandardErrors({ standardError: seAcf, error: (seAcf * relErrAcf) / 2, lowerBound: !est.resolved }, blocking);
+  const se = combined.standardError;
+  const agrees = combined.agrees;
+  // g behind the reported SE and its relative error (2·δSE/SE, since g ∝ SE²).
+  const gFinal = combined.source === 'autocorrelation' ? est.g : np * (se / sd) ** 2;
+  const relErrG = combined.source === 'autocorrelation' ? relErrAcf : (2 * combined.error) / se;
+  const nEff = np / gFinal;
 
-  let agrees = false;
-  if (blocking.plateau) {
-    const diff = Math.abs(blocking.plateau.standardError - se);
-    agrees = diff <= SIGNIFICANCE_Z * Math.hypot(blocking.plateau.error, seError);
-  }
   const drift = driftTest(prod, dt ?? 1, { windowFraction, startLag });
   const halves = halvesTest(prod, { windowFraction: Math.min(0.25, 2 * windowFraction), startLag });
 
@@ -836,7 +1000,7 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
   const cautions: string[] = [];
   if (!est.resolved) {
     flags.push(
-      `correlation time not resolved within ${est.window} lags: fewer than about ${minEffective} effective samples, and g is only a lower estimate`,
+      `correlation time not resolved within ${est.window} lags (${formatNumber((100 * est.window) / np)} % of the production run): the autocorrelation g is only a lower estimate and the effective sample count an upper one`,
     );
   }
   if (nEff < minEffective) flags.push(`only ${formatNumber(nEff)} effective samples (fewer than ${minEffective})`);
@@ -845,10 +1009,18 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
     flags.push(`first and second halves differ by ${withUnit(formatMeasurement(halves.difference, halves.combinedError), unit)}`);
   }
   if (targetAbs !== null && se > targetAbs) flags.push(extraText);
-  if (!blocking.plateau) cautions.push('block averaging found no plateau');
-  else if (!agrees) {
+  if (!blocking.plateau) {
+    const largestBlock = blocking.sizes[blocking.blocks.filter((b) => b >= PLATEAU_MIN_BLOCKS).length - 1] ?? 1;
+    flags.push(
+      `block averaging found no plateau (the blocked standard error is still changing at blocks of ${largestBlock} samples, the longest with at least ${PLATEAU_MIN_BLOCKS} blocks), so the error bar${combined.source === 'largest blocks' ? ', the largest blocked one,' : ''} may be too small`,
+    );
+  } else if (!agrees) {
     cautions.push(
-      `blocked standard error ${formatNumber(blocking.plateau.standardError)} and autocorrelation estimate ${formatNumber(se)} disagree beyond their uncertainty`,
+      `blocked standard error ${formatNumber(blocking.plateau.standardError)} and autocorrelation estimate ${formatNumber(seAcf)} disagree beyond their uncertainty; the larger is reported`,
+    );
+  } else if (combined.source === 'blocking plateau') {
+    cautions.push(
+      `the blocked standard error ${formatNumber(blocking.plateau.standardError)} is reported: the autocorrelation estimate ${formatNumber(seAcf)} is only a lower bound`,
     );
   }
   const mserGap = ms.index - t0;
@@ -862,7 +1034,7 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
       : dt === null
         ? `equilibrated from sample ${t0}`
         : `equilibrated from t = ${formatNumber(t0 * dt)} ps (sample ${t0})`,
-    `g = ${formatNumber(est.g)}`,
+    `g = ${formatNumber(gFinal)}`,
     `${Math.round(nEff)} effective samples`,
     `mean ${withUnit(formatMeasurement(mean, se), unit)}`,
   ];
@@ -876,9 +1048,12 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
     samples: n,
     mean: quantity(mean, se, unit),
     standardError: se,
-    statisticalInefficiency: est.g,
-    integratedAutocorrelationTime: quantity(toTime(est.tauInt), toTime(est.tauIntError), timeUnit),
+    standardErrorSource: combined.source,
+    autocorrelationStandardError: seAcf,
+    statisticalInefficiency: gFinal,
+    integratedAutocorrelationTime: quantity(toTime((gFinal - 1) / 2), toTime((gFinal / 2) * relErrG), timeUnit),
     geyerStatisticalInefficiency: est.geyer.g,
+    sokalStatisticalInefficiency: est.sokal.g,
     equilibrationIndex: t0,
     equilibrationTime: dt === null ? null : quantity(t0 * dt, null, 'ps'),
     mserIndex: ms.index,
@@ -918,9 +1093,12 @@ function constantReport(
     samples: n,
     mean: quantity(v, 0, unit),
     standardError: 0,
+    standardErrorSource: 'autocorrelation',
+    autocorrelationStandardError: 0,
     statisticalInefficiency: 1,
     integratedAutocorrelationTime: quantity(0, 0, timeUnit),
     geyerStatisticalInefficiency: 1,
+    sokalStatisticalInefficiency: 1,
     equilibrationIndex: 0,
     equilibrationTime: opts.dt === null ? null : quantity(0, null, 'ps'),
     mserIndex: 0,

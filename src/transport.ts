@@ -120,27 +120,56 @@ export function waldenToConventional(waldenSI: number): number {
   return waldenSI * WALDEN_SI_TO_CONVENTIONAL;
 }
 
-/** One factor x^p of a product, with its standard uncertainty (null = exact). */
+/**
+ * One factor x^p of a product, with its standard uncertainty. "Unknown" and "exact" are kept
+ * apart: `uncertainty: null` means the uncertainty could not be estimated (an unconverged
+ * analysis, say) unless `exact` is set; `exact: true` means the factor has no uncertainty at all
+ * (a defined constant, or a number the user gave without ± and asked to be taken as exact).
+ */
 export interface ProductTerm {
   value: number;
+  /** Standard uncertainty u(x); null = unknown, unless `exact` is true. */
   uncertainty: number | null;
+  /** The factor is exact: it contributes nothing and its `uncertainty` is not read. */
+  exact?: boolean;
   /** Exponent p (default 1; −1 for a divisor). */
   power?: number;
+}
+
+/** True when a factor's uncertainty is unknown: null and not marked exact (see `ProductTerm`). */
+export function uncertaintyUnknown(t: Pick<ProductTerm, 'uncertainty' | 'exact'>): boolean {
+  return t.exact !== true && t.uncertainty === null;
 }
 
 /**
  * Relative standard uncertainty of a product of independent factors Π x_i^p_i, to first order:
  * u_r = √(Σ_i (p_i u(x_i)/x_i)²) (JCGM 100:2008, GUM, eq. 12). Multiply by |product| for the
- * absolute uncertainty. Exact factors (uncertainty null or 0) contribute nothing.
+ * absolute uncertainty. Exact factors (`exact: true`) contribute nothing. When any factor's
+ * uncertainty is unknown (null and not exact) the product's is unknown too and the result is NaN
+ * — never a smaller number computed from the other factors alone; NaN stays NaN through any
+ * arithmetic, prints without "±" and is written as null in JSON. `productUncertainty` returns
+ * null instead.
  */
 export function relativeErrorProduct(terms: readonly ProductTerm[]): number {
   let sq = 0;
   for (const t of terms) {
-    if (t.uncertainty === null || t.uncertainty === 0) continue;
+    if (t.exact === true) continue;
+    if (t.uncertainty === null) return NaN;
+    if (t.uncertainty === 0) continue;
     const r = ((t.power ?? 1) * t.uncertainty) / t.value;
     sq += r * r;
   }
   return Math.sqrt(sq);
+}
+
+/**
+ * Absolute standard uncertainty |y|·u_r of y = Π x_i^p_i (u_r from `relativeErrorProduct`, GUM
+ * eq. 12), or null when any factor's uncertainty is unknown. Exact factors contribute nothing, so
+ * a product of exact factors has uncertainty 0.
+ */
+export function productUncertainty(value: number, terms: readonly ProductTerm[]): number | null {
+  if (terms.some(uncertaintyUnknown)) return null;
+  return Math.abs(value) * relativeErrorProduct(terms);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -159,6 +188,13 @@ export interface StokesInput {
   species?: string | null;
   /** Measured molar conductivity Λ (S m^2/mol), for the Walden product. */
   molarConductivity?: Quantity | null;
+  /**
+   * How to read an input whose `uncertainty` is null. 'unknown' (default): it could not be
+   * estimated, so every output that depends on it gets a null uncertainty. 'exact': a number
+   * given without ± that the caller takes as exact (the `stokes` command), so it contributes
+   * nothing and the others' uncertainties are propagated alone.
+   */
+  missingUncertainty?: 'unknown' | 'exact';
 }
 
 /** What `stokesSummary` returns (JSON-ready). */
@@ -181,12 +217,10 @@ export interface StokesResult {
   waldenProduct: Quantity | null;
   /** The same in S cm^2 mol^-1 P. */
   waldenProductConventional: Quantity | null;
-}
-
-/** Uncertainty of x·Π factors from relative errors (null when every input is exact). */
-function propagate(value: number, terms: ProductTerm[]): number | null {
-  if (terms.every((t) => t.uncertainty === null)) return null;
-  return Math.abs(value) * relativeErrorProduct(terms);
+  /** How inputs without an uncertainty were read (`StokesInput.missingUncertainty`). */
+  missingUncertainty: 'unknown' | 'exact';
+  /** Inputs given without an uncertainty ("diffusion", "radius", "viscosity", "molarConductivity"). */
+  inputsWithoutUncertainty: string[];
 }
 
 /**
@@ -194,9 +228,20 @@ function propagate(value: number, terms: ProductTerm[]): number | null {
  * first-order propagation of the uncertainties of D (or r) and η (GUM eq. 12); the Shannon
  * radius and r_H/r_crystal when the ion is tabulated (src/radii.ts); λ = z²F²D/(RT) when the
  * charge is known; the Walden product Λη when Λ is given. Sources at the functions used.
+ *
+ * Inputs without an uncertainty are read as `input.missingUncertainty` says: 'unknown' (default)
+ * makes every output that depends on one carry none; 'exact' propagates the others' alone. An
+ * output whose inputs all lack an uncertainty carries none either way (nothing to propagate;
+ * the `stokes` command warns).
  */
 export function stokesSummary(input: StokesInput): StokesResult {
   const { viscosity: eta, temperatureK: T, boundary } = input;
+  const policy = input.missingUncertainty ?? 'unknown';
+  /** Uncertainty of `value` = Π factors^p, reading null uncertainties by the policy. */
+  const propagate = (value: number, terms: ProductTerm[]): number | null => {
+    if (terms.every((t) => t.uncertainty === null)) return null;
+    return productUncertainty(value, terms.map((t) => ({ ...t, exact: policy === 'exact' && t.uncertainty === null })));
+  };
   const hasD = input.diffusion !== undefined && input.diffusion !== null;
   const hasR = input.radius !== undefined && input.radius !== null;
   if (hasD === hasR) throw new UsageError('give exactly one of a diffusion coefficient and a radius');
@@ -241,6 +286,7 @@ export function stokesSummary(input: StokesInput): StokesResult {
       'S cm^2 P/mol',
     );
   }
+  const given: Array<[string, Quantity | null]> = [[hasD ? 'diffusion' : 'radius', hasD ? D : r], ['viscosity', eta], ['molarConductivity', L]];
   return {
     hydrodynamicRadius: r,
     diffusion: D,
@@ -255,5 +301,7 @@ export function stokesSummary(input: StokesInput): StokesResult {
     limitingMolarConductivity: lambda,
     waldenProduct: walden,
     waldenProductConventional: waldenConv,
+    missingUncertainty: policy,
+    inputsWithoutUncertainty: given.filter(([, q]) => q !== null && q.uncertainty === null).map(([k]) => k),
   };
 }

@@ -11,8 +11,12 @@ import {
   chargeLayoutOnStore,
   chooseRdfPairs,
   finiteQuantities,
+  inputsWithoutUncertainty,
   ionName,
+  joinVerdict,
   labelSelection,
+  ratioJoin,
+  rootSumSquares,
   shellQuote,
   stokesRadiusJoin,
   trapezoidExponentialBias,
@@ -121,6 +125,67 @@ describe('Walden product join', () => {
     expect(w.conventional.unit).toBe('S cm^2 P/mol');
     const rel = Math.hypot(0.5 / 126.45, 0.05 / 0.89);
     expect(Math.abs(w.conventional.uncertainty! / w.conventional.value - rel)).toBeLessThan(1e-12);
+  });
+});
+
+describe('joins when an input has no uncertainty (unknown is not exact)', () => {
+  // An unconverged analysis reports its number with uncertainty null: it could not be estimated.
+  // GUM eq. 10 needs every u(x_i), so the joined number has no uncertainty either — not the
+  // smaller one the other input alone would give (JCGM 100:2008 §5.1.2).
+  const dUnknown = quantity(D.value, null, 'm^2/s');
+  const etaUnknown = quantity(ETA.value, null, 'Pa s');
+
+  it('root-sum-square: 3-4-5 by hand; an exact contribution is 0, an unknown one makes the total unknown', () => {
+    expect(Math.abs(rootSumSquares([3e-11, 4e-11])! - 5e-11)).toBeLessThan(1e-24);
+    expect(rootSumSquares([3e-11, 0])).toBe(3e-11);
+    expect(rootSumSquares([3e-11, null])).toBeNull();
+  });
+
+  it('Yeh–Hummer: D without uncertainty gives D∞ without one; the correction keeps ΔD·u(η)/η', () => {
+    const { corrected, correction } = yehHummerJoin(dUnknown, ETA, T, L);
+    expect(corrected.uncertainty).toBeNull();
+    // u(ΔD) = ΔD·u(η)/η (∂ΔD/∂η = −ΔD/η), hand value 2.321e-10 × 0.05/0.89 = 1.304e-11 m²/s
+    // (4 figures).
+    const dd = (KB * T * XI) / (6 * Math.PI * ETA.value * L * 1e-10);
+    expect(Math.abs(correction.uncertainty! - (dd * 0.05) / 0.89) / correction.uncertainty!).toBeLessThan(1e-12);
+    expect(Math.abs(correction.uncertainty! - 1.304e-11)).toBeLessThan(0.001e-11);
+    // η without uncertainty: neither the correction nor D∞ has one.
+    const noEta = yehHummerJoin(D, etaUnknown, T, L);
+    expect(noEta.correction.uncertainty).toBeNull();
+    expect(noEta.corrected.uncertainty).toBeNull();
+  });
+
+  it('Stokes–Einstein radius and Walden product: one unknown input, no uncertainty', () => {
+    expect(stokesRadiusJoin(dUnknown, ETA, T, L, 'stick').uncertainty).toBeNull();
+    expect(stokesRadiusJoin(D, etaUnknown, T, L, 'stick').uncertainty).toBeNull();
+    expect(stokesRadiusJoin(dUnknown, ETA, T, null, 'stick').uncertainty).toBeNull();
+    expect(stokesRadiusJoin(D, etaUnknown, T, null, 'stick').uncertainty).toBeNull();
+    const w = waldenJoin(quantity(126.45e-4, null, 'S m^2/mol'), ETA);
+    expect(w.si.uncertainty).toBeNull();
+    expect(w.conventional.uncertainty).toBeNull();
+    expect(waldenJoin(quantity(126.45e-4, 0.5e-4, 'S m^2/mol'), etaUnknown).si.uncertainty).toBeNull();
+  });
+
+  it('ratio (ionicity): 0.5 ± 0.025 by hand, none when either input has none', () => {
+    // (2 ± 0.06)/(4 ± 0.16): u/r = √(0.03² + 0.04²) = 0.05 → 0.5 ± 0.025 (GUM eq. 12, 3-4-5).
+    const r = ratioJoin(quantity(2, 0.06, 'S/m'), quantity(4, 0.16, 'S/m'), '1');
+    expect(r.value).toBe(0.5);
+    expect(Math.abs(r.uncertainty! - 0.025)).toBeLessThan(1e-15);
+    expect(ratioJoin(quantity(2, null, 'S/m'), quantity(4, 0.16, 'S/m'), '1').uncertainty).toBeNull();
+    expect(ratioJoin(quantity(2, 0.06, 'S/m'), quantity(4, null, 'S/m'), '1').uncertainty).toBeNull();
+  });
+
+  it('the verdict names the input without an uncertainty and the unconverged ones', () => {
+    const dIn = { name: 'D(Na), MSD', value: dUnknown, window: 'fit 10–50 ps', converged: false };
+    const etaIn = { name: 'shear viscosity η (Green–Kubo)', value: ETA, window: 'fit 0–2 ps', converged: true };
+    expect(inputsWithoutUncertainty([dIn, etaIn])).toEqual(['D(Na), MSD']);
+    expect(joinVerdict([dIn, etaIn])).toEqual({ verdict: 'inputs not converged: D(Na), MSD; no uncertainty, because D(Na), MSD has none', ok: false });
+    // Converged but still without an uncertainty: not ok either.
+    expect(joinVerdict([{ ...dIn, converged: true }, { ...etaIn, value: etaUnknown }])).toEqual({
+      verdict: 'no uncertainty, because D(Na), MSD and shear viscosity η (Green–Kubo) have none',
+      ok: false,
+    });
+    expect(joinVerdict([{ ...dIn, value: D, converged: true }, etaIn])).toEqual({ verdict: 'inputs converged', ok: true });
   });
 });
 

@@ -15,6 +15,8 @@ import {
   waldenProduct,
   waldenToConventional,
   relativeErrorProduct,
+  productUncertainty,
+  uncertaintyUnknown,
   stokesSummary,
 } from '../src/transport.js';
 import { crystalRadius, normaliseIonName } from '../src/radii.js';
@@ -217,9 +219,25 @@ describe('relativeErrorProduct', () => {
   it('exact factors contribute nothing and powers scale the term', () => {
     // r = k T /(c π η D): u_r(r) from u(D)/D = 3 % and η exact is 3 % (GUM eq. 12, p = −1).
     // Tolerance: floating-point rounding only.
-    expect(rel(relativeErrorProduct([{ value: 1e-9, uncertainty: 3e-11, power: -1 }, { value: 1e-3, uncertainty: null }]), 0.03)).toBeLessThan(1e-12);
+    expect(rel(relativeErrorProduct([{ value: 1e-9, uncertainty: 3e-11, power: -1 }, { value: 1e-3, uncertainty: null, exact: true }]), 0.03)).toBeLessThan(1e-12);
+    // An uncertainty of 0 is also exact.
+    expect(rel(relativeErrorProduct([{ value: 1e-9, uncertainty: 3e-11, power: -1 }, { value: 1e-3, uncertainty: 0 }]), 0.03)).toBeLessThan(1e-12);
     // x² with 1 % gives 2 % (GUM eq. 12 with p = 2).
     expect(rel(relativeErrorProduct([{ value: 4, uncertainty: 0.04, power: 2 }]), 0.02)).toBeLessThan(1e-12);
+  });
+
+  it('an unknown uncertainty (null, not marked exact) makes the product\'s unknown, not smaller', () => {
+    // The same r = kT/(cπηD) with u(η) unknown: GUM eq. 12 needs u(η), so there is no u_r — not
+    // the 3 % from D alone. relativeErrorProduct says NaN, productUncertainty null.
+    const d = { value: 1e-9, uncertainty: 3e-11, power: -1 };
+    const etaUnknown = { value: 1e-3, uncertainty: null, power: -1 };
+    expect(uncertaintyUnknown(etaUnknown)).toBe(true);
+    expect(uncertaintyUnknown({ ...etaUnknown, exact: true })).toBe(false);
+    expect(Number.isNaN(relativeErrorProduct([d, etaUnknown]))).toBe(true);
+    expect(productUncertainty(2.5, [d, etaUnknown])).toBeNull();
+    // Hand computation: |2.5| × 3 % = 0.075 with η exact; a product of exact factors has u = 0.
+    expect(rel(productUncertainty(2.5, [d, { ...etaUnknown, exact: true }])!, 0.075)).toBeLessThan(1e-12);
+    expect(productUncertainty(2.5, [{ value: 1, uncertainty: null, exact: true }])).toBe(0);
   });
 });
 
@@ -248,6 +266,40 @@ describe('stokesSummary (one ion, with uncertainties)', () => {
     // √((0.30/38.66)² + (0.01/0.89)²) = 0.0046984 (hand). Tolerance: 5 figures.
     expect(rel(r.waldenProductConventional!.value, 0.344074)).toBeLessThan(1e-5);
     expect(rel(r.waldenProductConventional!.uncertainty!, 0.0046984)).toBeLessThan(1e-4);
+  });
+
+  it('an input without ±: taken as exact when asked (the stokes command), unknown otherwise', () => {
+    // D = (1.029 ± 0.020)e-9 m^2/s, η = 0.890 mPa s without uncertainty, Λ = 38.66 ± 0.30 S cm^2/mol.
+    const input = {
+      diffusion: { value: 1.029e-9, uncertainty: 0.02e-9, unit: 'm^2/s' },
+      viscosity: { value: 0.89e-3, uncertainty: null, unit: 'Pa s' },
+      temperatureK: T25,
+      boundary: 'stick' as const,
+      species: 'Li+',
+      molarConductivity: { value: 38.66e-4, uncertainty: 0.3e-4, unit: 'S m^2/mol' },
+    };
+    // η exact: u(r)/r = 0.020/1.029 = 0.0194363 → u = 2.38458 × 0.0194363 = 0.046347 Å;
+    // Walden u = 0.344074 × 0.30/38.66 = 0.0026700 S cm^2 mol^-1 P (GUM eq. 12, hand
+    // arithmetic). Tolerance: 5-figure hand arithmetic.
+    const exact = stokesSummary({ ...input, missingUncertainty: 'exact' });
+    expect(rel(exact.hydrodynamicRadius.uncertainty!, 0.046347)).toBeLessThan(1e-4);
+    expect(rel(exact.radiusRatio!.uncertainty!, 0.046347 / 0.76)).toBeLessThan(1e-4);
+    expect(rel(exact.waldenProductConventional!.uncertainty!, 0.00267)).toBeLessThan(1e-4);
+    expect(exact.inputsWithoutUncertainty).toEqual(['viscosity']);
+    expect(exact.missingUncertainty).toBe('exact');
+    // η unknown (the default): every output that depends on η has no uncertainty; λ = z²F²D/(RT)
+    // does not involve η and keeps u(λ)/λ = u(D)/D = 0.0194363 (tolerance: round-off of the hand
+    // value).
+    const unknown = stokesSummary(input);
+    expect(unknown.missingUncertainty).toBe('unknown');
+    expect(unknown.hydrodynamicRadius.uncertainty).toBeNull();
+    expect(unknown.radiusRatio!.uncertainty).toBeNull();
+    expect(unknown.waldenProduct!.uncertainty).toBeNull();
+    expect(unknown.waldenProductConventional!.uncertainty).toBeNull();
+    const lambda = unknown.limitingMolarConductivity!;
+    expect(rel(lambda.uncertainty! / lambda.value, 0.0194363)).toBeLessThan(1e-5);
+    // Values do not depend on the reading of the uncertainties.
+    expect(unknown.hydrodynamicRadius.value).toBe(exact.hydrodynamicRadius.value);
   });
 
   it('the reverse (D from a radius) inverts the forward relation', () => {

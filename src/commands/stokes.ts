@@ -127,9 +127,25 @@ export function register(program: Command): void {
       const v = parseUncertainValue(opts.molarConductivity, MOLAR_CONDUCTIVITY_UNITS, '--molar-conductivity');
       molar = quantity(v.value, v.uncertainty, 'S m^2/mol');
     }
-    const r = stokesSummary({ diffusion, radius, viscosity, temperatureK, boundary: opts.boundary, species: opts.species ?? null, molarConductivity: molar });
+    // A number typed without ± is the user's own value, taken as exact (it contributes nothing to
+    // the propagated uncertainties), unlike a number from an analysis that could not estimate one.
+    const r = stokesSummary({
+      diffusion,
+      radius,
+      viscosity,
+      temperatureK,
+      boundary: opts.boundary,
+      species: opts.species ?? null,
+      molarConductivity: molar,
+      missingUncertainty: 'exact',
+    });
     if (r.hydrodynamicRadius.uncertainty === null && r.diffusion.uncertainty === null) {
       warnings.push('no uncertainties were given, so the result carries none; write them as VALUE±UNCERTAINTY UNIT');
+    } else if (r.inputsWithoutUncertainty.length > 0) {
+      const options = r.inputsWithoutUncertainty.map((k) => `--${k.replace(/[A-Z]/g, (c) => `-${c.toLowerCase()}`)}`);
+      warnings.push(
+        `${options.join(' and ')} ${options.length > 1 ? 'were' : 'was'} given without ±, so taken as exact: the uncertainties shown leave ${options.length > 1 ? 'them' : 'it'} out; write VALUE±UNCERTAINTY UNIT to include ${options.length > 1 ? 'them' : 'it'}`,
+      );
     }
     emit('stokes', opts, [], { ...opts }, r, warnings, () => renderStokes(r));
   });

@@ -16,7 +16,7 @@ import { quantity } from '../types.js';
 import { ANGSTROM } from '../units.js';
 import {
   YEH_HUMMER_XI,
-  relativeErrorProduct,
+  productUncertainty,
   stokesEinsteinRadius,
   stokesFactor,
   waldenProduct,
@@ -198,16 +198,53 @@ export interface JoinInput {
   converged: boolean;
 }
 
-/** Uncertainty √(Σ u_i²) of independent contributions; null when every one is null. */
-function rootSumSquares(parts: Array<number | null>): number | null {
-  if (parts.every((p) => p === null)) return null;
-  return Math.sqrt(parts.reduce<number>((s, p) => s + (p ?? 0) ** 2, 0));
+/**
+ * Uncertainty √(Σ u_i²) of independent contributions (GUM eq. 10 with the sensitivities already
+ * applied). A null contribution means "unknown" (its input's uncertainty could not be estimated),
+ * never "exact" — an exact input is passed as 0 or left out — so one null makes the result null:
+ * a total from the other contributions alone would look precise without being so.
+ */
+export function rootSumSquares(parts: ReadonlyArray<number | null>): number | null {
+  if (parts.some((p) => p === null)) return null;
+  return Math.sqrt(parts.reduce<number>((s, p) => s + p! ** 2, 0));
+}
+
+/** Names of the inputs of a join whose uncertainty is unknown (null). */
+export function inputsWithoutUncertainty(inputs: readonly JoinInput[]): string[] {
+  return inputs.filter((i) => i.value.uncertainty === null).map((i) => i.name);
+}
+
+/**
+ * Verdict of a joined number from its inputs: 'inputs converged' when every input converged and
+ * has an uncertainty; otherwise which inputs did not converge and which have no uncertainty (so
+ * the joined number has none either, see `rootSumSquares`). ok only in the first case: a number
+ * without an error bar, or built on an unconverged input, is not one to rely on.
+ */
+export function joinVerdict(inputs: readonly JoinInput[]): { verdict: string; ok: boolean } {
+  const notConverged = inputs.filter((i) => !i.converged).map((i) => i.name);
+  const unknown = inputsWithoutUncertainty(inputs);
+  if (notConverged.length === 0 && unknown.length === 0) return { verdict: 'inputs converged', ok: true };
+  const parts: string[] = [];
+  if (notConverged.length) parts.push(`inputs not converged: ${notConverged.join(', ')}`);
+  if (unknown.length) parts.push(`no uncertainty, because ${unknown.join(' and ')} ${unknown.length > 1 ? 'have' : 'has'} none`);
+  return { verdict: parts.join('; '), ok: false };
+}
+
+/**
+ * Ratio a/b of two independent quantities (ionicity σ_EH/σ_NE, Haven ratio σ_NE/σ_EH) with the
+ * first-order uncertainty |a/b|·√((u_a/a)² + (u_b/b)²) (GUM eq. 12), null when either input's
+ * uncertainty is unknown (null).
+ */
+export function ratioJoin(a: Quantity, b: Quantity, unit: string): Quantity {
+  const r = a.value / b.value;
+  return quantity(r, productUncertainty(r, [{ value: a.value, uncertainty: a.uncertainty }, { value: b.value, uncertainty: b.uncertainty, power: -1 }]), unit);
 }
 
 /**
  * Finite-size-corrected self-diffusion coefficient D∞ = D_PBC + ΔD, ΔD = k_B T ξ/(6π η L),
  * ξ = 2.837297 (Yeh & Hummer, J. Phys. Chem. B 108, 15873 (2004); src/transport.ts). First-order
  * uncertainty with T and L exact: u²(D∞) = u²(D_PBC) + (ΔD · u(η)/η)², since ∂ΔD/∂η = −ΔD/η.
+ * A null (unknown) uncertainty of D or η makes u(D∞) null; a null u(η) also makes u(ΔD) null.
  * D in m²/s, η in Pa s, T in K, L in Å.
  */
 export function yehHummerJoin(diffusion: Quantity, viscosity: Quantity, temperatureK: number, boxLengthA: number): { corrected: Quantity; correction: Quantity } {
@@ -225,7 +262,8 @@ export function yehHummerJoin(diffusion: Quantity, viscosity: Quantity, temperat
  * or from D itself when `boxLengthA` is null. D∞ depends on η, so the two are not independent:
  * with X = η D∞ = η D + k_B T ξ/(6π L), r = k_B T/(c π X) and, to first order with T and L exact,
  * u(X)² = (D u(η))² + (η u(D))², u(r) = r · u(X)/X. Without the correction u(r)/r =
- * √((u(D)/D)² + (u(η)/η)²). D in m²/s, η in Pa s; returns Å.
+ * √((u(D)/D)² + (u(η)/η)²). A null (unknown) uncertainty of either input gives a null u(r).
+ * D in m²/s, η in Pa s; returns Å.
  */
 export function stokesRadiusJoin(diffusion: Quantity, viscosity: Quantity, temperatureK: number, boxLengthA: number | null, boundary: Boundary): Quantity {
   const eta = viscosity.value;
@@ -234,9 +272,7 @@ export function stokesRadiusJoin(diffusion: Quantity, viscosity: Quantity, tempe
   const r = stokesEinsteinRadius(dInf, eta, temperatureK, boundary) / ANGSTROM;
   let u: number | null;
   if (boxLengthA === null) {
-    u = diffusion.uncertainty === null && viscosity.uncertainty === null
-      ? null
-      : Math.abs(r) * relativeErrorProduct([{ value: D, uncertainty: diffusion.uncertainty }, { value: eta, uncertainty: viscosity.uncertainty }]);
+    u = productUncertainty(r, [{ value: D, uncertainty: diffusion.uncertainty, power: -1 }, { value: eta, uncertainty: viscosity.uncertainty, power: -1 }]);
   } else {
     const X = eta * dInf;
     const uX = rootSumSquares([viscosity.uncertainty === null ? null : D * viscosity.uncertainty, diffusion.uncertainty === null ? null : eta * diffusion.uncertainty]);
@@ -247,17 +283,15 @@ export function stokesRadiusJoin(diffusion: Quantity, viscosity: Quantity, tempe
 
 /**
  * Walden product W = Λ η (Walden 1906; src/transport.ts) in S m² Pa s/mol and in the
- * conventional S cm² P/mol (× 10⁵), with u(W)/W = √((u(Λ)/Λ)² + (u(η)/η)²) to first order.
+ * conventional S cm² P/mol (× 10⁵), with u(W)/W = √((u(Λ)/Λ)² + (u(η)/η)²) to first order; null
+ * when either input's uncertainty is unknown (null).
  */
 export function waldenJoin(molarConductivity: Quantity, viscosity: Quantity): { si: Quantity; conventional: Quantity } {
   const w = waldenProduct(molarConductivity.value, viscosity.value);
-  const u =
-    molarConductivity.uncertainty === null && viscosity.uncertainty === null
-      ? null
-      : Math.abs(w) * relativeErrorProduct([
-          { value: molarConductivity.value, uncertainty: molarConductivity.uncertainty },
-          { value: viscosity.value, uncertainty: viscosity.uncertainty },
-        ]);
+  const u = productUncertainty(w, [
+    { value: molarConductivity.value, uncertainty: molarConductivity.uncertainty },
+    { value: viscosity.value, uncertainty: viscosity.uncertainty },
+  ]);
   return {
     si: quantity(w, u, 'S m^2 Pa s/mol'),
     conventional: quantity(waldenToConventional(w), u === null ? null : waldenToConventional(u), 'S cm^2 P/mol'),
@@ -827,11 +861,11 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
         if (etaUsable && L !== null) {
           const yh = yehHummerJoin(g.diffusion, eta!, T, L);
           const inputs: JoinInput[] = [{ name: `D(${label}), MSD`, value: g.diffusion, window: w, converged: g.converged }, etaInput()];
-          const ok = g.converged && etaOk;
+          const { verdict: joinText, ok } = joinVerdict(inputs);
           const joinWindow = `D ${range(g.fit.from, g.fit.to)}; η ${etaWindow}`;
           summary.push({
             key: `joins.yehHummer.${label}`, quantity: `D(${label}), infinite system`, value: yh.corrected, scale: D_SCALE, unit: D_UNIT, method: `Yeh–Hummer, ξ = ${YEH_HUMMER_XI}`,
-            window: joinWindow, verdict: ok ? 'inputs converged' : `inputs not converged: ${inputs.filter((x) => !x.converged).map((x) => x.name).join(', ')}`, ok,
+            window: joinWindow, verdict: joinText, ok,
           });
           yhSpecies.push({ label, diffusionPeriodic: g.diffusion, correction: yh.correction, diffusion: yh.corrected, inputs });
           row.push(formatValue(yh.corrected.value * D_SCALE, yh.corrected.uncertainty === null ? null : yh.corrected.uncertainty * D_SCALE));
@@ -842,12 +876,12 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
           const ratio = cr ? quantity(r.value / cr.radiusA, r.uncertainty === null ? null : r.uncertainty / cr.radiusA, '1') : null;
           summary.push({
             key: `joins.stokesEinstein.${label}`, quantity: `hydrodynamic radius of ${label}`, value: r, scale: 1, unit: 'Å', method: `Stokes–Einstein (${data.boundary}, c = ${stokesFactor(data.boundary)}) with D∞`,
-            window: joinWindow, verdict: ok ? 'inputs converged' : `inputs not converged: ${inputs.filter((x) => !x.converged).map((x) => x.name).join(', ')}`, ok,
+            window: joinWindow, verdict: joinText, ok,
           });
           if (ratio && cr) {
             summary.push({
               key: `joins.radiusRatio.${label}`, quantity: `hydrodynamic / crystal radius of ${label}`, value: ratio, scale: 1, unit: '1', method: `r_H / Shannon r(${cr.name}) = ${cr.radiusA} Å`,
-              window: joinWindow, verdict: ok ? 'inputs converged' : 'inputs not converged', ok,
+              window: joinWindow, verdict: joinText, ok,
             });
           }
           seSpecies.push({
@@ -979,10 +1013,18 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
       );
     }
     const speciesWindows = k.species.map((s) => `${s.label}: fit ${range(s.fit.from, s.fit.to)}`).join('; ');
-    const speciesOk = k.species.every((s) => s.converged);
     const ehNotes = k.notes.filter((n) => n.startsWith('Einstein–Helfand'));
     const ehOk = !ehNotes.some((n) => n.includes('not converged')) && k.einsteinHelfand.uncertainty !== null;
-    summary.push({ key: 'conductivity.nernstEinstein', quantity: 'conductivity σ, ions independent', value: k.nernstEinstein, scale: 1, unit: 'S/m', method: 'Nernst–Einstein from D(MSD)', window: speciesWindows, verdict: speciesOk ? 'inputs converged' : 'inputs not converged', ok: speciesOk });
+    const inputsNE: JoinInput[] = k.species.map((s) => ({ name: `D(${s.label}), MSD`, value: s.diffusion, window: `fit ${range(s.fit.from, s.fit.to)}`, converged: s.converged }));
+    const inputEH: JoinInput = { name: 'σ, Einstein–Helfand', value: k.einsteinHelfand, window: ehWindow, converged: ehOk };
+    const neJoin = joinVerdict(inputsNE);
+    const ionicityJoin = joinVerdict([inputEH, ...inputsNE]);
+    const molarJoin = joinVerdict([inputEH]);
+    // Ionicity and Haven ratio again here, so that an input without an uncertainty leaves them
+    // without one (rather than with the other input's alone).
+    const ionicity = ratioJoin(k.einsteinHelfand, k.nernstEinstein, '1');
+    const havenRatio = k.havenRatio ? ratioJoin(k.nernstEinstein, k.einsteinHelfand, '1') : null;
+    summary.push({ key: 'conductivity.nernstEinstein', quantity: 'conductivity σ, ions independent', value: k.nernstEinstein, scale: 1, unit: 'S/m', method: 'Nernst–Einstein from D(MSD)', window: speciesWindows, verdict: neJoin.verdict, ok: neJoin.ok });
     summary.push({ key: 'conductivity.einsteinHelfand', quantity: 'conductivity σ, collective', value: k.einsteinHelfand, scale: 1, unit: 'S/m', method: 'Einstein–Helfand', window: ehWindow, verdict: ehOk ? 'converged' : `not converged: ${firstReason(ehNotes.map((n) => n.replace(/^Einstein–Helfand:\s*/, '')), 'no uncertainty')}`, ok: ehOk });
     let gkOk = false;
     if (k.greenKubo && k.greenKuboPlateau) {
@@ -990,29 +1032,27 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
       gkOk = k.greenKuboPlateau.found && k.greenKubo.uncertainty !== null && !gkNotes.some((n) => n.startsWith('not converged'));
       summary.push({ key: 'conductivity.greenKubo', quantity: 'conductivity σ, collective', value: k.greenKubo, scale: 1, unit: 'S/m', method: 'Green–Kubo (charge current)', window: `plateau ${range(k.greenKuboPlateau.from, k.greenKuboPlateau.to)}`, verdict: gkOk ? 'converged' : `not converged: ${firstReason(gkNotes, 'no plateau')}`, ok: gkOk });
     }
-    summary.push({ key: 'conductivity.ionicity', quantity: 'ionicity σ_EH/σ_NE', value: k.ionicity, scale: 1, unit: '1', method: 'ratio of the two above', window: `σ_EH ${range(k.fit.from, k.fit.to)}; D as above`, verdict: ehOk && speciesOk ? 'inputs converged' : 'inputs not converged', ok: ehOk && speciesOk });
+    summary.push({ key: 'conductivity.ionicity', quantity: 'ionicity σ_EH/σ_NE', value: ionicity, scale: 1, unit: '1', method: 'ratio of the two above', window: `σ_EH ${range(k.fit.from, k.fit.to)}; D as above`, verdict: ionicityJoin.verdict, ok: ionicityJoin.ok });
     if (k.molarConductivity) {
-      summary.push({ key: 'conductivity.molar', quantity: 'molar conductivity Λ = σ_EH/c', value: k.molarConductivity, scale: 1e4, unit: 'S cm²/mol', method: `c = ${formatSig(k.concentration!.value, 4)} mol/L (cations)`, window: ehWindow, verdict: ehOk ? 'inputs converged' : 'inputs not converged', ok: ehOk });
+      summary.push({ key: 'conductivity.molar', quantity: 'molar conductivity Λ = σ_EH/c', value: k.molarConductivity, scale: 1e4, unit: 'S cm²/mol', method: `c = ${formatSig(k.concentration!.value, 4)} mol/L (cations)`, window: ehWindow, verdict: molarJoin.verdict, ok: molarJoin.ok });
     }
     convergence.push({ name: 'conductivity (Einstein–Helfand)', verdict: ehOk ? `converged; ${ehWindow}` : ehNotes.join('; ') || 'no uncertainty', reliable: ehOk });
     if (k.greenKubo) convergence.push({ name: 'conductivity (Green–Kubo)', verdict: gkOk ? 'converged' : k.notes.filter((n) => n.startsWith('Green–Kubo')).join('; ') || 'not converged', reliable: gkOk });
-    const inputsNE: JoinInput[] = k.species.map((s) => ({ name: `D(${s.label}), MSD`, value: s.diffusion, window: `fit ${range(s.fit.from, s.fit.to)}`, converged: s.converged }));
-    const inputEH: JoinInput = { name: 'σ, Einstein–Helfand', value: k.einsteinHelfand, window: ehWindow, converged: ehOk };
     joins.conductivity = {
       nernstEinstein: { value: k.nernstEinstein, inputs: inputsNE, formula: 'σ_NE = e²/(V k_B T) Σ N_i z_i² D_i (src/transport.ts)' },
       einsteinHelfand: { value: k.einsteinHelfand, window: ehWindow },
       greenKubo: k.greenKubo ? { value: k.greenKubo, window: k.greenKuboPlateau ? `plateau ${range(k.greenKuboPlateau.from, k.greenKuboPlateau.to)}` : null } : null,
-      ionicity: { value: k.ionicity, inputs: [inputEH, ...inputsNE], formula: 'σ_EH/σ_NE; first order, σ_EH and σ_NE treated as independent (they are positively correlated, so the uncertainty is an upper estimate)' },
-      havenRatio: k.havenRatio,
+      ionicity: { value: ionicity, inputs: [inputEH, ...inputsNE], formula: 'σ_EH/σ_NE; first order, σ_EH and σ_NE treated as independent (they are positively correlated, so the uncertainty is an upper estimate); none when either has none' },
+      havenRatio,
     };
     const wRows: string[][] = [];
     if (k.molarConductivity && etaUsable) {
       const w = waldenJoin(k.molarConductivity, eta!);
       const inputs: JoinInput[] = [{ name: 'molar conductivity Λ = σ_EH/c', value: k.molarConductivity, window: ehWindow, converged: ehOk }, etaInput()];
-      const ok = ehOk && etaOk;
+      const { verdict: waldenText, ok } = joinVerdict(inputs);
       summary.push({
         key: 'joins.walden', quantity: 'Walden product Λη', value: w.si, scale: 1e5, unit: 'S cm² P/mol', method: 'Λ (Einstein–Helfand) × η (Green–Kubo)', window: `Λ ${range(k.fit.from, k.fit.to)}; η ${etaWindow}`,
-        verdict: ok ? 'inputs converged' : `inputs not converged: ${inputs.filter((x) => !x.converged).map((x) => x.name).join(', ')}`, ok,
+        verdict: waldenText, ok,
       });
       joins.walden = { product: w.si, productConventional: w.conventional, inputs, formula: 'W = Λ η (Walden 1906); 1 S m² Pa s/mol = 10⁵ S cm² P/mol; first order, Λ and η independent' };
       wRows.push(['Walden product Λη', `${formatValue(w.conventional.value, w.conventional.uncertainty)} S cm² P/mol`]);
@@ -1033,15 +1073,15 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
           ['σ Nernst–Einstein', q(k.nernstEinstein, 1, 'S/m'), speciesWindows],
           ['σ Einstein–Helfand', q(k.einsteinHelfand, 1, 'S/m'), ehWindow],
           ['σ Green–Kubo', q(k.greenKubo, 1, 'S/m'), k.greenKuboPlateau ? `plateau ${range(k.greenKuboPlateau.from, k.greenKuboPlateau.to)}` : 'no velocities'],
-          ['ionicity σ_EH/σ_NE', q(k.ionicity), ''],
-          ['Haven ratio σ_NE/σ_EH', q(k.havenRatio), ''],
+          ['ionicity σ_EH/σ_NE', q(ionicity), ''],
+          ['Haven ratio σ_NE/σ_EH', q(havenRatio), ''],
           ['concentration', q(k.concentration, 1, 'mol/L'), 'cations'],
           ['molar conductivity Λ', q(k.molarConductivity, 1e4, 'S cm²/mol'), ehWindow],
           ...wRows.map((r) => [...r, `η: ${etaWindow}`]),
         ],
       }],
     });
-    conductivityJson = { ...omit(k, ['curves']), csv: csv.name };
+    conductivityJson = { ...omit(k, ['curves']), ionicity, havenRatio, csv: csv.name };
   }
   if (viscositySection) sections.push(viscositySection);
 
@@ -1050,7 +1090,11 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
     const rows: string[][] = [];
     const add = (what: string, value: Quantity | null, s: number, unit: string, inputs: JoinInput[]) => {
       if (!value) return;
-      rows.push([what, `${formatValue(value.value * s, value.uncertainty === null ? null : value.uncertainty * s)} ${unit}`, inputs.map((i) => `${i.name}: ${formatValue(i.value.value, i.value.uncertainty)} ${i.value.unit} (${i.window}${i.converged ? '' : ', NOT CONVERGED'})`).join('; ')]);
+      rows.push([
+        what,
+        `${formatValue(value.value * s, value.uncertainty === null ? null : value.uncertainty * s)}${value.uncertainty === null ? ' (no uncertainty)' : ''} ${unit}`,
+        inputs.map((i) => `${i.name}: ${formatValue(i.value.value, i.value.uncertainty)} ${i.value.unit} (${i.window}${i.converged ? '' : ', NOT CONVERGED'}${i.value.uncertainty === null ? ', NO UNCERTAINTY' : ''})`).join('; '),
+      ]);
     };
     const yh = joins.yehHummer as { species: Array<{ label: string; diffusion: Quantity; inputs: JoinInput[] }> } | undefined;
     for (const s of yh?.species ?? []) add(`D∞(${s.label})`, s.diffusion, D_SCALE, D_UNIT, s.inputs);
@@ -1064,7 +1108,7 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
       sections.push({
         id: 'joins',
         title: 'Joined quantities',
-        text: `Numbers that combine two analyses. Uncertainties: ${PROPAGATION_RULE}. Each input is listed with the window it came from; a joined number is only as reliable as its least reliable input.`,
+        text: `Numbers that combine two analyses. Uncertainties: ${PROPAGATION_RULE}. An input whose uncertainty could not be estimated leaves the joined number without one (it is not treated as exact). Each input is listed with the window it came from; a joined number is only as reliable as its least reliable input.`,
         figures: [],
         tables: [{ caption: 'Joined numbers, each with its inputs (JSON units) and their windows', headers: ['quantity', 'value ± uncertainty', 'inputs (value, window)'], rows }],
       });
