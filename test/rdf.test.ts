@@ -186,7 +186,11 @@ describe('ideal gas: g(r) = 1 within binomial noise', () => {
     // known to a few %: the χ-distribution median for 9 d.o.f. is 0.96, accept 0.8–1.15.
     const { result } = runPass(baseSpec([{ a: 'all', b: 'all' }]), fr, topo);
     const p = result.pairs[0];
-    expect(p.blocks).toBe(automaticBlockCount(frames, 1)); // independent frames: s ≈ 1 → F/4 = 10
+    // Independent frames: true s = 1 → F/4 = 10 blocks. The estimate of s from 40 frames has a
+    // standard error of order √(2(2M+1)/F) ≈ 0.5 for a window M of a few lags (Sokal 1997), so
+    // accept any block count down to that of s = 2.
+    expect(p.blocks).toBeLessThanOrEqual(automaticBlockCount(frames, 1));
+    expect(p.blocks).toBeGreaterThanOrEqual(automaticBlockCount(frames, 2));
     const M = (frames * n * (n - 1)) / 2;
     const v = shellVolumes(p.g.length, 0.05);
     const ratios: number[] = [];
