@@ -8,7 +8,7 @@ import { atomicMass, atomicNumber, elementFromLabel, normaliseElement, symbolOf 
  * atomic weight is an interval, the conventional value given there. Each entry below is
  * [symbol, value, note]; the comparison is exact because the table stores the published
  * decimal (the only error allowed is none: a typo must fail). The values were checked against
- * a transcription of the report's Table 1 (standard and abridged values), not the PDF itself.
+ * a copy of the report's Table 1 (standard and abridged values), not the PDF itself.
  */
 const CIAAW_2021: [string, number, string][] = [
   ['H', 1.008, 'CIAAW 2021: interval [1.00784, 1.00811], conventional 1.008'],
