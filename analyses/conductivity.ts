@@ -19,9 +19,22 @@
  * Ionicity σ/σ_NE (Einstein–Helfand over Nernst–Einstein) and the Haven ratio H = σ_NE/σ, both
  * with first-order uncertainties treating the two conductivities as independent (they are
  * positively correlated, so this overstates the uncertainty). Molar conductivity Λ = σ/c with
- * c the salt concentration, defined as the concentration of cations (count of positive sites /
+ * c the salt concentration, defined as the concentration of cations (count of cations /
  * (N_A ⟨V⟩)) — for a 1:1 salt the salt concentration; for other stoichiometries divide by the
  * number of cations per formula unit.
+ *
+ * Ions and other charged sites (`ionSites`): every charged site enters the collective current M
+ * (or J), but only ions enter the Nernst–Einstein sum and the concentration. An ion is a single
+ * atom with a non-zero whole charge (|q − round(q)| < 1e-6) that is not part of a larger
+ * molecule (its residue, when the file has residues, carries the same net charge), or with
+ * `molecules` a molecule with a non-zero whole net charge; or, when the user names them
+ * (`ions`, for scaled-charge models), the sites the selection picks. Partial charges of neutral
+ * molecules (water O −0.8476, H +0.4238) are not ions: their motion is part of the collective
+ * current, but they carry no net charge and do not conduct independently.
+ *
+ * Green–Kubo is guarded as the VACF is (src/fit.ts): the charge-current autocorrelation must keep
+ * at least half of its zero-lag value after one frame interval (`correlationSamplingProblem`),
+ * and the running integral must stay on its plateau (`plateauDriftCheck`).
  */
 import type { Pass, PassContext, Quantity, Topology } from '../src/types.js';
 import { quantity } from '../src/types.js';
@@ -30,7 +43,7 @@ import { UsageError } from '../src/errors.js';
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } from '../src/units.js';
 import { nernstEinsteinConductivity, nernstEinsteinUncertainty, relativeErrorProduct } from '../src/transport.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
-import { cumulativeTrapezoid, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
+import { correlationSamplingProblem, cumulativeTrapezoid, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
 import {
   StoreView,
   analyseMsd,
@@ -113,11 +126,94 @@ function chargeText(q: number): string {
   return `${q > 0 ? '+' : ''}${Number(q.toPrecision(6))}`;
 }
 
+/** Largest |q − round(q)| (e) for a charge to count as whole. */
+export const WHOLE_CHARGE_TOLERANCE = 1e-6;
+
+/** True for a non-zero whole charge: |q − round(q)| < 1e-6 and round(q) ≠ 0. */
+export function isWholeCharge(q: number): boolean {
+  const n = Math.round(q);
+  return n !== 0 && Math.abs(q - n) < WHOLE_CHARGE_TOLERANCE;
+}
+
 /**
- * Sites for the conductivity: every charged atom (grouped by label and charge), or with
- * `molecules` every molecule with a non-zero net charge (grouped by residue name and charge).
+ * Which charged sites of a conductivity layout are ions (rule in the module comment): with
+ * `ionAtoms` (the atoms a user selection picks) a site is an ion when all its atoms are picked;
+ * with molecule sites, when its net charge is a non-zero whole number; with atom sites, when the
+ * atom's charge is a non-zero whole number and, if the file has residues, its molecule's net
+ * charge (from the charges of the layout's sites; atoms outside the layout are neutral) equals
+ * it. Returns one flag per site and notes on what was left out.
  */
-export function chargeLayout(topology: Topology, q: Float64Array, molecules: boolean): SiteLayout & { siteCharges: Float64Array } {
+export function ionSites(
+  topology: Topology,
+  layout: SiteLayout & { siteCharges: Float64Array },
+  ionAtoms: ReadonlySet<number> | null = null,
+): { ion: Uint8Array; notes: string[] } {
+  const { map, siteCharges } = layout;
+  const ion = new Uint8Array(map.count);
+  const notes: string[] = [];
+  const atomsOf = (s: number) => Array.from(map.atoms.subarray(map.start[s], map.start[s + 1]));
+  if (ionAtoms) {
+    for (let s = 0; s < map.count; s++) ion[s] = atomsOf(s).every((a) => ionAtoms.has(a)) ? 1 : 0;
+  } else if (layout.molecules) {
+    for (let s = 0; s < map.count; s++) ion[s] = isWholeCharge(siteCharges[s]) ? 1 : 0;
+  } else {
+    const res = topology.residues;
+    const qAtom = new Float64Array(topology.atoms);
+    for (let s = 0; s < map.count; s++) if (map.start[s + 1] - map.start[s] === 1) qAtom[map.atoms[map.start[s]]] = siteCharges[s];
+    let net: Float64Array | null = null;
+    let charged: Int32Array | null = null;
+    let firstAtom: Int32Array | null = null;
+    if (res) {
+      net = new Float64Array(res.count);
+      charged = new Int32Array(res.count);
+      firstAtom = new Int32Array(res.count).fill(-1);
+      for (let a = 0; a < topology.atoms; a++) {
+        const m = res.molecule[a];
+        net[m] += qAtom[a];
+        if (qAtom[a] !== 0) charged[m]++;
+        if (firstAtom[m] < 0) firstAtom[m] = a;
+      }
+    }
+    const molecularIons = new Set<string>();
+    for (let s = 0; s < map.count; s++) {
+      const atoms = atomsOf(s);
+      if (atoms.length !== 1 || !isWholeCharge(siteCharges[s])) continue;
+      const a = atoms[0];
+      if (res && net && Math.abs(net[res.molecule[a]] - siteCharges[s]) >= WHOLE_CHARGE_TOLERANCE) continue;
+      ion[s] = 1;
+    }
+    if (res && net && charged && firstAtom) {
+      for (let m = 0; m < res.count; m++) if (charged[m] > 1 && isWholeCharge(net[m])) molecularIons.add(res.names[firstAtom[m]]);
+      if (molecularIons.size) {
+        notes.push(
+          `molecule(s) ${[...molecularIons].join(', ')} carry a whole net charge spread over several atoms: their atoms are not counted as ions ` +
+            '(Nernst–Einstein, concentration); follow molecule centres with --molecules to count them',
+        );
+      }
+    }
+  }
+  let others = 0;
+  for (let s = 0; s < map.count; s++) if (!ion[s] && siteCharges[s] !== 0) others++;
+  if (others > 0) {
+    notes.push(
+      `${others} charged site(s) are not ions (partial charges of neutral molecules${ionAtoms ? ', or not picked by --ions' : ''}): ` +
+        'they enter the collective current (Einstein–Helfand, Green–Kubo) but not the Nernst–Einstein sum or the concentration',
+    );
+  }
+  return { ion, notes };
+}
+
+/**
+ * Sites for the conductivity: every charged atom (grouped by label, charge and whether it is an
+ * ion, `ionSites`), or with `molecules` every molecule with a non-zero net charge (grouped by
+ * residue name and charge). `ions`, when given, is the selection of the atoms to count as ions.
+ */
+export function chargeLayout(
+  topology: Topology,
+  q: Float64Array,
+  molecules: boolean,
+  ions: string | null = null,
+): SiteLayout & { siteCharges: Float64Array } {
   const notes: string[] = [];
   const keys: string[] = [];
   const charges: number[] = [];
@@ -149,20 +245,31 @@ export function chargeLayout(topology: Topology, q: Float64Array, molecules: boo
     map = atomSiteMap(Int32Array.from(atoms));
   }
   if (map.count === 0) throw new UsageError('no charged atoms (or molecules): check --charges');
-  // Group by key and charge; a key with several charges gets the charge in its label.
-  const chargesOfKey = new Map<string, Set<number>>();
+  const siteCharges = Float64Array.from(charges);
+  const ionAtoms = ions === null ? null : new Set(selectAtoms(ions, topology));
+  // (The notes on what is not an ion are added by analyseConductivity, which repeats this rule.)
+  const { ion } = ionSites(topology, { map, groups: [], molecules, notes: [], siteCharges }, ionAtoms);
+  // Group by key, charge and ion status; a key with several of them gets them in its label.
+  const kinds = new Map<string, Set<string>>();
+  const kindOf = (i: number) => `${charges[i]}|${ion[i]}`;
   keys.forEach((k, i) => {
-    if (!chargesOfKey.has(k)) chargesOfKey.set(k, new Set());
-    chargesOfKey.get(k)!.add(charges[i]);
+    if (!kinds.has(k)) kinds.set(k, new Set());
+    kinds.get(k)!.add(kindOf(i));
   });
-  const groups = new Map<string, { sites: number[]; charge: number }>();
+  const groups = new Map<string, { sites: number[]; charge: number; ion: boolean }>();
   keys.forEach((k, i) => {
-    const label = chargesOfKey.get(k)!.size > 1 ? `${k}(${chargeText(charges[i])})` : k;
-    if (!groups.has(label)) groups.set(label, { sites: [], charge: charges[i] });
+    const several = kinds.get(k)!;
+    const chargesOfKey = new Set([...several].map((x) => x.split('|')[0]));
+    let label = k;
+    if (several.size > 1) {
+      label = chargesOfKey.size > 1 ? `${k}(${chargeText(charges[i])})` : k;
+      if (chargesOfKey.size < several.size) label += ion[i] ? '(ion)' : '(in molecule)';
+    }
+    if (!groups.has(label)) groups.set(label, { sites: [], charge: charges[i], ion: ion[i] === 1 });
     groups.get(label)!.sites.push(i);
   });
-  const out: SiteGroup[] = [...groups.entries()].map(([label, g]) => ({ label, sites: Int32Array.from(g.sites), charge: g.charge }));
-  return { map, groups: out, molecules, notes, siteCharges: Float64Array.from(charges) };
+  const out: SiteGroup[] = [...groups.entries()].map(([label, g]) => ({ label, sites: Int32Array.from(g.sites), charge: g.charge, ion: g.ion }));
+  return { map, groups: out, molecules, notes, siteCharges };
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -276,6 +383,8 @@ export interface ConductivityOptions {
   plateauSpan?: number;
   /** Compute the Green–Kubo value when velocities exist (default true). */
   greenKubo?: boolean;
+  /** Selection of the atoms to count as ions regardless of their charge (scaled-charge models). */
+  ions?: string | null;
 }
 
 /** Per-species part of the result. */
@@ -283,6 +392,10 @@ export interface ConductivitySpecies {
   label: string;
   count: number;
   charge: number;
+  /** True for ions (in the Nernst–Einstein sum and the concentration). */
+  ion: boolean;
+  /** Segments the D uncertainty rests on. */
+  segments: number;
   diffusion: Quantity;
   fit: { from: number; to: number };
   converged: boolean;
@@ -300,7 +413,14 @@ export interface ConductivityResult {
   concentration: Quantity | null;
   fit: { from: number; to: number; points: number; automatic: boolean };
   greenKuboPlateau: { from: number; to: number; found: boolean } | null;
+  /** Whether the Green–Kubo value passed its checks (plateau, drift, sampling); null without it. */
+  greenKuboConverged: boolean | null;
+  /** The drift check of the Green–Kubo plateau (src/fit.ts plateauDriftCheck): later lags in ps, change and its threshold in S/m. */
+  greenKuboDrift: { from: number; to: number; change: number; error: number | null; threshold: number; drifting: boolean } | null;
+  /** The ions: the species of the Nernst–Einstein sum and the concentration. */
   species: ConductivitySpecies[];
+  /** Charged sites that are not ions (partial charges of neutral molecules): current only. */
+  otherCharged: ConductivitySpecies[];
   volume: Quantity;
   temperature: Quantity;
   netCharge: number;
@@ -363,26 +483,49 @@ export function analyseConductivity(
       segments: opts.segments,
       nonGaussian: false,
     });
-  const species: ConductivitySpecies[] = layout.groups.map((g, i) => {
+  // Ions (Nernst–Einstein, concentration) and the other charged sites (current only).
+  const ionAtoms = opts.ions ? new Set(selectAtoms(opts.ions, ctx.topology)) : null;
+  const ionInfo = ionSites(ctx.topology, layout, ionAtoms);
+  for (const n of ionInfo.notes) if (!notes.includes(n)) notes.push(n);
+  const all: ConductivitySpecies[] = layout.groups.map((g, i) => {
     const r = m.groups[i];
+    let ion = g.ion;
+    if (ion === undefined) {
+      const flags = Array.from(g.sites, (s) => ionInfo.ion[s]);
+      ion = flags.every((x) => x === 1);
+      if (!ion && flags.some((x) => x === 1)) notes.push(`group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`);
+    }
     return {
       label: g.label,
       count: g.sites.length,
       charge: g.charge ?? 0,
+      ion,
+      segments: r.segments,
       diffusion: r.diffusion,
       fit: { from: r.fit.from, to: r.fit.to },
       converged: r.converged,
       notes: r.notes,
     };
   });
-  const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
-  const neValue = nernstEinsteinConductivity(neInput, V, temp);
-  const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
-  const neUnc = allUnc
-    ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
-    : null;
-  const nernstEinstein = quantity(neValue, neUnc, 'S/m');
-  if (!allUnc) notes.push('some species D has no uncertainty: the Nernst–Einstein value has none');
+  const species = all.filter((x) => x.ion);
+  const otherCharged = all.filter((x) => !x.ion);
+  let nernstEinstein: Quantity;
+  if (species.length > 0) {
+    const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
+    const neValue = nernstEinsteinConductivity(neInput, V, temp);
+    const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
+    const neUnc = allUnc
+      ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
+      : null;
+    nernstEinstein = quantity(neValue, neUnc, 'S/m');
+    if (!allUnc) notes.push('some species D has no uncertainty: the Nernst–Einstein value has none');
+  } else {
+    nernstEinstein = quantity(NaN, null, 'S/m');
+    notes.push(
+      'not converged: no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
+        'concentration or molar conductivity; for scaled charges name the ions with --ions',
+    );
+  }
 
   // Einstein–Helfand.
   const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, opts.maxFraction ?? DEFAULT_MAX_FRACTION), opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0));
@@ -398,34 +541,41 @@ export function analyseConductivity(
   let gkPlateau: ConductivityResult['greenKuboPlateau'] = null;
   let gkRunning: Float64Array | null = null;
   let gkConverged = true;
+  let gkDrift: ConductivityResult['greenKuboDrift'] = null;
   if ((opts.greenKubo ?? true) && (store.collective ? store.collectiveVelocity !== null : velocitySourceOf(store) === 'file')) {
     const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
-    gkRunning = toSigma(currentAutocorrelation(view, q, 0, T, maxLag));
-    const pw = plateauWithSegments(gkRunning, T, opts, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
+    const jj = currentAutocorrelation(view, q, 0, T, maxLag);
+    gkRunning = toSigma(jj);
+    const pw = plateauWithSegments(gkRunning, T, { ...opts, timeStep: dt }, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
     greenKubo = quantity(pw.value, pw.error, 'S/m');
     gkPlateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
-    gkConverged = pw.converged;
+    const d = pw.drift;
+    gkDrift = d.checked ? { from: d.from * dt, to: d.to * dt, change: d.drift, error: d.error, threshold: d.threshold, drifting: d.drifting } : null;
+    const sampling = correlationSamplingProblem(jj, dt, 'the charge-current autocorrelation');
+    gkConverged = pw.converged && sampling === null;
     notes.push(...pw.notes.map((n) => `Green–Kubo: ${n}`));
+    if (sampling) notes.push(`Green–Kubo: not converged: ${sampling}; the Einstein–Helfand value does not depend on this sampling`);
   } else if (opts.greenKubo ?? true) {
     notes.push('Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)');
   }
 
-  const ionicity = ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1');
+  const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1') : quantity(NaN, null, '1');
   let havenRatio: Quantity | null = null;
-  if (ehValue > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1');
-  else notes.push('Einstein–Helfand conductivity is not positive: no Haven ratio');
+  if (ehValue > 0 && species.length > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1');
+  else if (!(ehValue > 0)) notes.push('Einstein–Helfand conductivity is not positive: no Haven ratio');
 
   let cations = 0;
-  for (const x of q) if (x > 0) cations++;
+  for (const x of species) if (x.charge > 0) cations += x.count;
   let concentration: Quantity | null = null;
   let molar: Quantity | null = null;
   if (cations > 0) {
     const c = concentrationMolPerM3(cations, V);
     concentration = quantity(c / 1000, null, 'mol/L');
     molar = quantity(ehValue / c, ehUnc === null ? null : ehUnc / c, 'S m^2/mol');
-  } else notes.push('no positive sites: no salt concentration and no molar conductivity');
+  } else if (species.length > 0) notes.push('no cations among the ions: no salt concentration and no molar conductivity');
 
-  const converged = sf.converged && gkConverged && species.every((s) => s.converged);
+  const greenKuboConverged = greenKubo === null ? null : gkConverged;
+  const converged = sf.converged && gkConverged && species.length > 0 && species.every((s) => s.converged);
   return {
     nernstEinstein,
     einsteinHelfand,
@@ -436,7 +586,10 @@ export function analyseConductivity(
     concentration,
     fit: { from: sf.from, to: sf.to, points: sf.points, automatic: sf.automatic },
     greenKuboPlateau: gkPlateau,
+    greenKuboConverged,
+    greenKuboDrift: gkDrift,
     species,
+    otherCharged,
     volume: quantity(V, null, 'A^3'),
     temperature: quantity(temp, null, 'K'),
     netCharge: net,
@@ -456,8 +609,13 @@ export function analyseConductivity(
     memoryNote: read?.note ?? null,
     rules: {
       window: windowRuleText(opts),
-      uncertainty: uncertaintyRuleText(opts),
-      concentration: 'salt concentration c = (number of positive sites)/(N_A <V>): the salt concentration of a 1:1 salt',
+      uncertainty: uncertaintyRuleText(opts, [
+        ...all.map((x) => ({ label: `D(${x.label})`, segments: x.segments })),
+        { label: 'Einstein–Helfand', segments: sf.segments },
+      ]),
+      concentration:
+        'salt concentration c = (number of cations)/(N_A <V>): the salt concentration of a 1:1 salt; ions are single atoms or molecules with a non-zero whole charge ' +
+        '(or the --ions selection); partial charges of neutral molecules enter the collective current only, not the Nernst–Einstein sum or c',
       ratios:
         'ionicity = σ_EH/σ_NE, Haven ratio = σ_NE/σ_EH; first-order uncertainties treating both as independent (an upper estimate: they are positively correlated)',
     },
@@ -473,8 +631,8 @@ export interface ConductivityPassOptions extends ConductivityOptions {
 }
 
 /** Layout spec of the conductivity sites for the pass options. */
-export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean }): (t: Topology) => SiteLayout & { siteCharges: Float64Array } {
-  return (t) => chargeLayout(t, atomCharges(t, opts.charges), !!opts.molecules);
+export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean; ions?: string | null }): (t: Topology) => SiteLayout & { siteCharges: Float64Array } {
+  return (t) => chargeLayout(t, atomCharges(t, opts.charges), !!opts.molecules, opts.ions ?? null);
 }
 
 /** The conductivity Pass: one coordinate store, finished by `analyseConductivity`. */

@@ -53,11 +53,14 @@ import { A2_PER_PS } from '../src/units.js';
 import { yehHummerCorrection, YEH_HUMMER_XI } from '../src/transport.js';
 import {
   blockStatistics,
-  diffusiveWindow,
   fitLine,
   maxLagIndex,
   planSegments,
+  segmentedDiffusiveWindow,
+  segmentFactorNote,
+  segmentUncertaintyFactor,
   windowFromTimes,
+  FULL_CONFIDENCE_SEGMENTS,
   DEFAULT_MAX_FRACTION,
   DEFAULT_SEGMENTS,
   DEFAULT_SLOPE_TOLERANCE,
@@ -88,6 +91,8 @@ export interface SiteGroup {
   sites: Int32Array;
   /** Charge of each site of the group in e, when known (conductivity). */
   charge?: number;
+  /** Whether the group's sites are ions (conductivity: Nernst–Einstein and concentration). */
+  ion?: boolean;
 }
 
 /** Sites and groups for one topology. */
@@ -1209,15 +1214,22 @@ export interface SlopeFit {
   /** Segment values of the slope, and their standard error (null when no plan works). */
   segmentSlopes: number[];
   slopeError: number | null;
+  /** Segments used for the uncertainty (0: none). */
   segments: number;
+  /** Factor applied to the segment standard error (Student-t for M < 5, else 1). */
+  uncertaintyFactor: number;
   converged: boolean;
   notes: string[];
 }
 
 /**
  * Fit the slope of an MSD-like curve y(m·dt) over the user window or the automatic diffusive
- * window, and its standard error over independent segments whose curves `segmentCurve(start,
- * frames, maxLag)` computes (rules in src/fit.ts).
+ * window, and its uncertainty over independent segments whose curves `segmentCurve(start,
+ * frames, maxLag)` computes (rules in src/fit.ts): an automatic window is searched only among
+ * the lags a segment holds (`segmentedDiffusiveWindow`); a user window keeps its lags and the
+ * segment count is reduced until it fits (`planSegments`). The uncertainty is the standard error
+ * over the M segments used, times the Student-t factor t_{0.8413, M−1} when M < 5
+ * (`segmentUncertaintyFactor`).
  */
 export function fitSlopeWithSegments(
   curve: Float64Array,
@@ -1231,35 +1243,42 @@ export function fitSlopeWithSegments(
   let window: LagWindow;
   let automatic: boolean;
   let found = true;
+  let plan: { ok: boolean; segments: number; segmentFrames: number };
   if (opts.fitFrom !== undefined && opts.fitTo !== undefined) {
     window = windowFromTimes(opts.fitFrom, opts.fitTo, dt, frames);
     if (window.to >= curve.length) throw new UsageError(`fit window ends beyond the computed curve (${(curve.length - 1) * dt} ps)`);
     automatic = false;
+    const p = planSegments(frames, window, { segments: opts.segments ?? DEFAULT_SEGMENTS, maxFraction: 1, mayShrink: false });
+    notes.push(...p.notes.map((n) => (p.ok ? n : `not converged: ${n}`)));
+    window = p.window;
+    plan = p;
   } else {
-    const w = diffusiveWindow(time, curve, frames, { tolerance: opts.tolerance, maxFraction: opts.maxFraction });
-    window = { from: w.from, to: w.to };
+    const w = segmentedDiffusiveWindow(time, curve, frames, {
+      tolerance: opts.tolerance,
+      maxFraction: opts.maxFraction,
+      segments: opts.segments ?? DEFAULT_SEGMENTS,
+    });
+    window = w.window;
     automatic = true;
     found = w.found;
-    if (!w.found && w.reason) notes.push(`not converged: ${w.reason}`);
+    notes.push(...w.notes);
+    plan = w;
   }
-  const plan = planSegments(frames, window, {
-    segments: opts.segments ?? DEFAULT_SEGMENTS,
-    maxFraction: automatic ? opts.maxFraction : 1,
-    mayShrink: automatic,
-  });
-  notes.push(...plan.notes.map((n) => (plan.ok ? n : `not converged: ${n}`)));
-  window = plan.window;
   const points = window.to - window.from + 1;
   if (points < 3) throw new AnalysisError(`fit window of ${points} lag(s) is too short to fit a line`);
   const fit = fitLine(time, curve, { from: window.from, to: window.to });
-  let segmentSlopes: number[] = [];
+  const segmentSlopes: number[] = [];
   let slopeError: number | null = null;
+  let factor = 1;
   if (plan.ok) {
     for (let k = 0; k < plan.segments; k++) {
       const c = segmentCurve(k * plan.segmentFrames, plan.segmentFrames, window.to);
       segmentSlopes.push(fitLine(time, c, { from: window.from, to: window.to }).slope);
     }
-    slopeError = blockStatistics(segmentSlopes).standardError;
+    factor = segmentUncertaintyFactor(plan.segments);
+    slopeError = blockStatistics(segmentSlopes).standardError * factor;
+    const fn = segmentFactorNote(plan.segments);
+    if (fn) notes.push(fn);
   }
   if (points < MIN_WINDOW_POINTS) notes.push(`not converged: the fit window holds ${points} lags, fewer than ${MIN_WINDOW_POINTS}`);
   const converged = found && plan.ok && points >= MIN_WINDOW_POINTS;
@@ -1273,6 +1292,7 @@ export function fitSlopeWithSegments(
     segmentSlopes,
     slopeError,
     segments: plan.ok ? plan.segments : 0,
+    uncertaintyFactor: factor,
     converged,
     notes,
   };
@@ -1296,6 +1316,9 @@ export interface MsdGroupResult {
   diffusionCorrected: Quantity | null;
   /** D in each independent segment, m²/s. */
   segmentDiffusion: number[];
+  /** Segments the uncertainty rests on (0: none), and the factor applied to their standard error. */
+  segments: number;
+  uncertaintyFactor: number;
   converged: boolean;
   notes: string[];
 }
@@ -1319,6 +1342,11 @@ export interface MsdResult {
   yehHummer: { viscosity: Quantity; temperature: Quantity; boxLength: Quantity; correction: Quantity; note: string } | null;
   rules: { window: string; uncertainty: string; nonGaussian: string };
 }
+
+/** Why the Yeh–Hummer correction is refused for in-plane (2-D) diffusion. */
+export const YEH_HUMMER_PLANE_ERROR =
+  'the Yeh–Hummer correction (--viscosity with --temperature) applies to 3-D diffusion in a cubic periodic cell; ' +
+  'in-plane diffusion (--plane), e.g. in a slab, has a different finite-size correction: drop --plane or the correction inputs';
 
 /** Frame interval of a context, or a usage error asking for it. */
 export function requireFrameInterval(ctx: PassContext): number {
@@ -1449,6 +1477,7 @@ export function finishMsd(
     if (opts.viscosity === undefined || opts.temperature === undefined) {
       throw new UsageError('the Yeh–Hummer correction needs both --viscosity and --temperature');
     }
+    if (opts.plane !== undefined) throw new UsageError(YEH_HUMMER_PLANE_ERROR);
     const box = yehHummerBoxLength(info);
     if (!info.allCubic) ctx.warnings.push(box.note);
     correction = yehHummerCorrection(opts.temperature, opts.viscosity, box.length);
@@ -1496,6 +1525,8 @@ export function finishMsd(
       diffusion: quantity(D, dUnc, 'm^2/s'),
       diffusionCorrected: yh ? quantity(D + correction, dUnc, 'm^2/s') : null,
       segmentDiffusion: sf.segmentSlopes.map((s) => diffusionFromSlope(s, dims)),
+      segments: sf.segments,
+      uncertaintyFactor: sf.uncertaintyFactor,
       converged: sf.converged,
       notes,
     });
@@ -1517,7 +1548,7 @@ export function finishMsd(
     yehHummer: yh,
     rules: {
       window: windowRuleText(opts),
-      uncertainty: uncertaintyRuleText(opts),
+      uncertainty: uncertaintyRuleText(opts, groups.map((g) => ({ label: g.label, segments: g.segments }))),
       nonGaussian:
         `α2 = d<Δr^4>/((d+2)<Δr^2>^2) − 1 (Rahman 1964), computed directly over all time origins at about ${NON_GAUSSIAN_LAGS_PER_DECADE} log-spaced lags per decade`,
     },
@@ -1533,12 +1564,34 @@ export function windowRuleText(opts: { fitFrom?: number; fitTo?: number; toleran
   );
 }
 
-/** Text of the uncertainty rule with the parameters in force. */
-export function uncertaintyRuleText(opts: { segments?: number }): string {
-  return (
-    `standard error over ${opts.segments ?? DEFAULT_SEGMENTS} independent segments of the run, SD/√M, same window ` +
-    `(block averages: Frenkel & Smit, Understanding Molecular Simulation, 2nd ed., §4.4.1)`
-  );
+/**
+ * Text of the uncertainty rule with the segment counts actually used: `used` lists, per result
+ * (group, or one collective curve), the segments its uncertainty rests on (0: none). Without
+ * `used`, the requested count is stated as requested.
+ */
+export function uncertaintyRuleText(opts: { segments?: number }, used?: ReadonlyArray<{ label: string; segments: number }>): string {
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  const source = '(block averages: Frenkel & Smit, Understanding Molecular Simulation, 2nd ed., §4.4.1)';
+  const widen =
+    `; with fewer than ${FULL_CONFIDENCE_SEGMENTS} segments multiplied by Student's t(0.8413, M−1) so that ± stays a 68 % confidence half-width (Student 1908)`;
+  if (!used || used.length === 0) {
+    return `standard error over ${want} (requested) independent segments of the run, SD/√M, same window ${source}${widen}`;
+  }
+  const counts = new Map<number, string[]>();
+  for (const u of used) {
+    if (!counts.has(u.segments)) counts.set(u.segments, []);
+    counts.get(u.segments)!.push(u.label);
+  }
+  let how: string;
+  if (counts.size === 1) {
+    const m = [...counts.keys()][0];
+    how = m === 0 ? 'no segments fit: no uncertainty' : `standard error over M = ${m} independent segments of the run`;
+  } else {
+    how =
+      'standard error over M independent segments of the run, M = ' +
+      [...counts.entries()].map(([m, labels]) => `${m === 0 ? 'none' : m} (${labels.join(', ')})`).join('; ');
+  }
+  return `${how} (${want} requested), SD/√M, same window ${source}${widen}`;
 }
 
 /** The unwrapping warning of a store, or null. */

@@ -39,7 +39,8 @@ import { AnalysisError, UsageError } from '../src/errors.js';
 import { blockStatistics } from '../src/fit.js';
 import { inefficiency } from './converge.js';
 import {
-  structureFactor, lennardJonesEnergy, lennardJonesPressure, kirkwoodBuffRunning, kirkwoodBuffFiniteSize,
+  structureFactor, structureFactorGrid, lennardJonesEnergy, lennardJonesPressure, kirkwoodBuffRunning, kirkwoodBuffFiniteVolume,
+  kirkwoodBuffExtrapolation, KB_EXTRAPOLATION_FROM,
   type LennardJones, type SqWindow,
 } from './structure.js';
 
@@ -307,13 +308,40 @@ export interface RdfPairResult {
   smoothing: string;
   converged: boolean;
   notes: string[];
-  structureFactor?: { q: number[]; s: number[]; sError: (number | null)[]; window: string; density: Quantity } | null;
+  structureFactor?: {
+    q: number[];
+    s: number[];
+    sError: (number | null)[];
+    window: string;
+    density: Quantity;
+    /** Smallest q given, 2π/r_max (1/Å): below it S(q) is set by the truncation of g(r). */
+    qMin: Quantity;
+    note: string;
+  } | null;
   lennardJones?: {
     epsilon: Quantity; sigma: Quantity; cutoff: Quantity; energy: Quantity; energyTail: Quantity;
     pressure: Quantity | null; pressureTail: Quantity | null; note: string;
   } | null;
   kirkwoodBuff?: {
-    r: number[]; running: number[]; finiteSize: number[]; runningAtRMax: Quantity; finiteSizeAtRMax: Quantity; method: string;
+    r: number[];
+    running: number[];
+    /** Finite-volume integrals G_V(L) of a spherical subvolume of diameter L = r (Krüger et al. 2013). */
+    finiteVolume: number[];
+    runningAtRMax: Quantity;
+    /** G_V(L = r_max): a finite-volume integral, not the infinite-system value. */
+    finiteVolumeAtRMax: Quantity;
+    /** G∞ from L·G_V(L) = L·G∞ + F over the stated linear range. */
+    infinite: Quantity;
+    extrapolation: {
+      from: Quantity;
+      to: Quantity;
+      points: number;
+      surfaceTerm: Quantity;
+      /** Least-squares slope error (departure from a line) and block standard error of G∞. */
+      fitError: Quantity;
+      blockError: Quantity | null;
+    };
+    method: string;
   } | null;
 }
 
@@ -649,11 +677,16 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
     };
     if (spec.structureFactor) {
       const { qMax, qStep, window } = spec.structureFactor;
-      const q = new Float64Array(Math.floor(qMax / qStep + 1e-9));
-      for (let i = 0; i < q.length; i++) q[i] = (i + 1) * qStep;
+      const { q, qMin } = structureFactorGrid(qMax, qStep, rMax);
       const s = structureFactor(total.g, binWidth, total.density, q, window);
       const sBlocks = perBlock.map((b) => structureFactor(b.g, binWidth, b.density, q, window));
+      const sqNote =
+        `q starts at the first multiple of the q step at or above 2 pi/r-max = ${qMin.toPrecision(4)} 1/A: below it S(q) is set by the truncation of g(r) at r-max, ` +
+        'not by the structure (Fourier resolution 2 pi/R); a larger r-max (bigger cell) reaches lower q';
+      if (q.length === 0) notes.push(`S(q): no q in ${qStep}–${qMax} 1/A lies at or above 2 pi/r-max = ${qMin.toPrecision(4)} 1/A`);
       out.structureFactor = {
+        qMin: quantity(qMin, null, '1/A'),
+        note: sqNote,
         q: Array.from(q),
         s: Array.from(s),
         sError: Array.from(q, (_, i) => seOrNull(sBlocks.map((x) => x[i]))),
@@ -704,17 +737,34 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
     }
     if (spec.kirkwoodBuff) {
       const run = kirkwoodBuffRunning(total.g, binWidth);
-      const fs = kirkwoodBuffFiniteSize(total.g, binWidth);
+      const fv = kirkwoodBuffFiniteVolume(total.g, binWidth);
+      const fvBlocks = perBlock.map((b) => kirkwoodBuffFiniteVolume(b.g, binWidth));
       const last = nbins - 1;
+      const ex = kirkwoodBuffExtrapolation(total.g, binWidth, KB_EXTRAPOLATION_FROM, fv);
+      const exBlocks = perBlock.map((b, i) => kirkwoodBuffExtrapolation(b.g, binWidth, KB_EXTRAPOLATION_FROM, fvBlocks[i]).infinite);
+      const blockError = seOrNull(exBlocks);
+      const infUnc = blockError === null ? ex.fitError : Math.hypot(blockError, ex.fitError);
       out.kirkwoodBuff = {
         r: Array.from({ length: nbins }, (_, k) => (k + 1) * binWidth),
         running: Array.from(run),
-        finiteSize: Array.from(fs),
+        finiteVolume: Array.from(fv),
         runningAtRMax: quantity(run[last], seOrNull(perBlock.map((b) => kirkwoodBuffRunning(b.g, binWidth)[last])), 'A^3'),
-        finiteSizeAtRMax: quantity(fs[last], seOrNull(perBlock.map((b) => kirkwoodBuffFiniteSize(b.g, binWidth)[last])), 'A^3'),
+        finiteVolumeAtRMax: quantity(fv[last], seOrNull(fvBlocks.map((b) => b[last])), 'A^3'),
+        infinite: quantity(ex.infinite, infUnc, 'A^3'),
+        extrapolation: {
+          from: quantity(ex.from, null, 'A'),
+          to: quantity(ex.to, null, 'A'),
+          points: ex.points,
+          surfaceTerm: quantity(ex.surface, null, 'A^4'),
+          fitError: quantity(ex.fitError, null, 'A^3'),
+          blockError: blockError === null ? null : quantity(blockError, null, 'A^3'),
+        },
         method:
-          'running G(R) = 4 pi int_0^R (g-1) r^2 dr, and the finite-volume integral of Kruger, Schnell et al. (J. Phys. Chem. Lett. 4, 235 (2013)) ' +
-          'G(L) = 4 pi int_0^L (g-1) r^2 (1 - 3x/2 + x^3/2) dr, x = r/L, L the diameter of the spherical subvolume; both at the upper bin edges',
+          'running G(R) = 4 pi int_0^R (g-1) r^2 dr; the finite-volume integral of Kruger, Schnell et al. (J. Phys. Chem. Lett. 4, 235 (2013)) ' +
+          'G_V(L) = 4 pi int_0^L (g-1) r^2 (1 - 3x/2 + x^3/2) dr, x = r/L, L the diameter of the spherical subvolume, both at the upper bin edges; ' +
+          `and the infinite-system G from their 1/L scaling, L G_V(L) = L G_inf + F, fitted as a straight line over L = ${ex.from.toPrecision(4)}–${ex.to.toPrecision(4)} A ` +
+          `(the upper ${Math.round(100 * (1 - KB_EXTRAPOLATION_FROM))} % of r-max); uncertainty = block standard error of the extrapolated value combined with the ` +
+          'least-squares slope error (departure from a line). g(r) is not corrected for the finite number of particles in the cell',
       };
     }
     for (const n of notes) ctx.warnings.push(`g(r) ${pair.a}:${pair.b}: ${n}`);

@@ -11,6 +11,7 @@
  */
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, GAS_CONSTANT, parseQuantity } from '../src/units.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
+import { fitLine } from '../src/fit.js';
 
 /** Window applied to (g − 1) before the Fourier transform. */
 export type SqWindow = 'lorch' | 'none';
@@ -81,6 +82,24 @@ export function structureFactor(
     s[i] = 1 + 4 * Math.PI * density * sum;
   }
   return s;
+}
+
+/**
+ * The q grid of S(q) for a g(r) known up to r_max: the multiples k·Δq of the step (k ≥ 1) from the
+ * first one at or above q_min = 2π/r_max up to q_max. Below q_min the transform of a g(r) cut at
+ * r_max is set by the truncation, not by the structure: a range R resolves features in q no finer
+ * than about 2π/R (the same Fourier resolution the Lorch window trades for its smoothing; Lorch,
+ * J. Phys. C 2, 229 (1969)), and the q → 0 limit needs the long-range part of g beyond R.
+ * Returns the grid (possibly empty when q_max < q_min) and q_min, both in Å⁻¹.
+ */
+export function structureFactorGrid(qMax: number, qStep: number, rMax: number): { q: Float64Array; qMin: number } {
+  if (!(qStep > 0) || !(rMax > 0)) throw new RangeError('structureFactorGrid: q step and r-max must be positive');
+  const qMin = (2 * Math.PI) / rMax;
+  const first = Math.max(1, Math.ceil(qMin / qStep - 1e-9));
+  const last = Math.floor(qMax / qStep + 1e-9);
+  const q = new Float64Array(Math.max(0, last - first + 1));
+  for (let i = 0; i < q.length; i++) q[i] = (first + i) * qStep;
+  return { q, qMin };
 }
 
 /** Lennard-Jones 12-6 parameters: ε (kJ/mol), σ (Å), cutoff r_c (Å) or null = r-max. */
@@ -236,10 +255,12 @@ export function sphereOverlapWeight(x: number): number {
 
 /**
  * Finite-volume Kirkwood–Buff integral of Krüger, Schnell et al. (2013) for a sphere of diameter
- * L = (k+1)Δr, at every upper bin edge: G(L) = 4π ∫_0^L (g − 1) r² w(r/L) dr with w as in
+ * L = (k+1)Δr, at every upper bin edge: G_V(L) = 4π ∫_0^L (g − 1) r² w(r/L) dr with w as in
  * sphereOverlapWeight; per bin exact with ∫ r² w dr = r³/3 − 3r⁴/(8L) + r⁶/(12L³). Å³. O(nbins²).
+ * This is the integral of a finite subvolume, not the infinite-system value: see
+ * `kirkwoodBuffExtrapolation`.
  */
-export function kirkwoodBuffFiniteSize(g: ArrayLike<number>, binWidth: number): Float64Array {
+export function kirkwoodBuffFiniteVolume(g: ArrayLike<number>, binWidth: number): Float64Array {
   const n = g.length;
   const out = new Float64Array(n);
   for (let k = 0; k < n; k++) {
@@ -255,4 +276,53 @@ export function kirkwoodBuffFiniteSize(g: ArrayLike<number>, binWidth: number): 
     out[k] = 4 * Math.PI * acc;
   }
   return out;
+}
+
+/** Default start of the linear range of the 1/L extrapolation, as a fraction of r_max. */
+export const KB_EXTRAPOLATION_FROM = 0.5;
+
+/** Result of `kirkwoodBuffExtrapolation`. */
+export interface KirkwoodBuffExtrapolation {
+  /** G∞, the infinite-system integral (Å³): the slope of L·G_V(L) against L. */
+  infinite: number;
+  /** Least-squares standard error of that slope from the residuals (Å³). */
+  fitError: number;
+  /** The surface term F (Å⁴): the intercept of L·G_V(L) = L·G∞ + F. */
+  surface: number;
+  /** The linear range of L (Å, upper bin edges) and the number of points in it. */
+  from: number;
+  to: number;
+  points: number;
+}
+
+/**
+ * Infinite-system Kirkwood–Buff integral from the finite-volume ones (Krüger, Schnell, Bedeaux,
+ * Kjelstrup, Vlugt & Simon, J. Phys. Chem. Lett. 4, 235 (2013)): for subvolumes larger than the
+ * correlation length G_V(L) = G∞ + F/L, i.e. L·G_V(L) = L·G∞ + F is linear in L; G∞ is the slope
+ * of a least-squares line (Numerical Recipes §15.2, src/fit.ts `fitLine`) through L·G_V(L) at the
+ * upper bin edges L ∈ [fromFraction·r_max, r_max] (default the upper half, fromFraction = 0.5;
+ * r_max is at most half the cell, beyond which the finite-volume integrals are not used). The
+ * slope error from the residuals measures how far the points depart from a line; the statistical
+ * error of G∞ comes from repeating the extrapolation on independent time blocks (rdf.ts).
+ */
+export function kirkwoodBuffExtrapolation(
+  g: ArrayLike<number>,
+  binWidth: number,
+  fromFraction = KB_EXTRAPOLATION_FROM,
+  finiteVolume?: ArrayLike<number>,
+): KirkwoodBuffExtrapolation {
+  const n = g.length;
+  const gv = finiteVolume ?? kirkwoodBuffFiniteVolume(g, binWidth);
+  const rMax = n * binWidth;
+  const first = Math.max(0, Math.ceil((fromFraction * rMax) / binWidth - 1 - 1e-9));
+  const points = n - first;
+  if (points < 3) throw new AnalysisError(`Kirkwood–Buff extrapolation: only ${points} bin(s) in the linear range; need at least 3`);
+  const L = new Float64Array(points);
+  const LG = new Float64Array(points);
+  for (let i = 0; i < points; i++) {
+    L[i] = (first + i + 1) * binWidth;
+    LG[i] = L[i] * gv[first + i];
+  }
+  const f = fitLine(L, LG);
+  return { infinite: f.slope, fitError: f.slopeError, surface: f.intercept, from: L[0], to: L[points - 1], points };
 }

@@ -7,7 +7,11 @@
  * D(t) = (1/d) ∫₀ᵗ C(t') dt' by the trapezoid rule (Green, J. Chem. Phys. 22, 398 (1954); Kubo,
  * J. Phys. Soc. Jpn. 12, 570 (1957)); D is the mean of D(t) over the plateau window of
  * src/fit.ts (`plateauWindow`), and its uncertainty the standard error over independent segments.
- * Lags are analysed up to half the run (the same f_max rule as the MSD).
+ * Lags are analysed up to half the run (the same f_max rule as the MSD). Two checks guard the
+ * value (src/fit.ts): the VACF must keep at least half of C(0) after one frame interval, or the
+ * trapezoid rule misjudges the first interval, which segments cannot see
+ * (`correlationSamplingProblem`); and the running integral must stay on its plateau over the
+ * later lags (`plateauDriftCheck`). Either failing makes the value not converged.
  *
  * Velocities come from the file when every frame has them; otherwise from central differences of
  * the unwrapped, drift-corrected positions, v(t) = [r(t+Δt) − r(t−Δt)]/(2Δt), at the interior
@@ -28,10 +32,15 @@ import { AnalysisError } from '../src/errors.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
 import {
   blockStatistics,
+  correlationSamplingProblem,
   cumulativeTrapezoid,
   maxLagIndex,
+  plateauDriftCheck,
   plateauWindow,
+  segmentFactorNote,
+  segmentUncertaintyFactor,
   windowMean,
+  DRIFT_CHECK_FACTOR,
   DEFAULT_MAX_FRACTION,
   DEFAULT_PLATEAU_SPAN,
   DEFAULT_PLATEAU_TOLERANCE,
@@ -39,6 +48,7 @@ import {
   MIN_PLATEAU_POINTS,
   MIN_SEGMENTS,
   type LagWindow,
+  type PlateauDrift,
 } from '../src/fit.js';
 import {
   StoreView,
@@ -49,6 +59,7 @@ import {
   storeBytes,
   storePass,
   driftDescription,
+  uncertaintyRuleText,
   type LayoutSpec,
   type SiteLayout,
   type SpeciesLayoutOptions,
@@ -182,6 +193,13 @@ export interface VacfGroupResult {
   plateau: { from: number; to: number; found: boolean };
   diffusion: Quantity;
   segmentDiffusion: number[];
+  /** Segments the uncertainty rests on (0: none), and the factor applied to their standard error. */
+  segments: number;
+  uncertaintyFactor: number;
+  /** False when the VACF falls below half of C(0) within one frame interval (src/fit.ts). */
+  samplingOk: boolean;
+  /** The drift check after the plateau (src/fit.ts plateauDriftCheck): later lags in ps, change and threshold in m²/s. */
+  plateauDrift: { from: number; to: number; change: number; error: number | null; threshold: number; drifting: boolean } | null;
   converged: boolean;
   notes: string[];
   spectrum: { frequencyTHz: Float64Array; wavenumber: Float64Array; intensity: Float64Array; unit: string };
@@ -200,24 +218,44 @@ export interface VacfResult {
   rules: { plateau: string; uncertainty: string; spectrum: string };
 }
 
+/** Plateau, value and uncertainty of a running integral (`plateauWithSegments`). */
+export interface SegmentedPlateau {
+  window: LagWindow;
+  found: boolean;
+  value: number;
+  segmentValues: number[];
+  /** Standard error over the segments (× the Student-t factor when M < 5), or null. */
+  error: number | null;
+  segments: number;
+  uncertaintyFactor: number;
+  /** The check that the integral stays on the plateau over later lags (src/fit.ts). */
+  drift: PlateauDrift;
+  converged: boolean;
+  notes: string[];
+}
+
 /**
  * Plateau and segment uncertainty of a running integral. The run of `samples` samples is cut
  * into M segments (default 5, reduced to no fewer than MIN_SEGMENTS when a segment would be too
  * short); the plateau is searched (src/fit.ts `plateauWindow`) among the lags a segment can hold
  * under the f_max rule, so that every segment can be evaluated over the same window. The value is
  * the mean of the full-run integral over the window, its uncertainty the standard error of the
- * segment means (Frenkel & Smit, 2nd ed., §4.4.1). `segmentIntegral(start, count, maxLag)` gives
- * a segment's running integral.
+ * segment means (Frenkel & Smit, 2nd ed., §4.4.1), times t_{0.8413, M−1} when M < 5
+ * (`segmentUncertaintyFactor`). Then the integral over the later lags, up to 3× the plateau end
+ * inside a segment, must stay on the plateau within the segment uncertainty of the change
+ * (`plateauDriftCheck`); otherwise not converged ("running integral keeps drifting").
+ * `segmentIntegral(start, count, maxLag)` gives a segment's running integral.
  */
 export function plateauWithSegments(
   integral: Float64Array,
   samples: number,
-  opts: { plateauTolerance?: number; plateauSpan?: number; segments?: number; maxFraction?: number },
+  opts: { plateauTolerance?: number; plateauSpan?: number; segments?: number; maxFraction?: number; timeStep?: number },
   segmentIntegral: (start: number, count: number, maxLag: number) => Float64Array,
-): { window: LagWindow; found: boolean; value: number; segmentValues: number[]; error: number | null; segments: number; converged: boolean; notes: string[] } {
+): SegmentedPlateau {
   const notes: string[] = [];
   const want = opts.segments ?? DEFAULT_SEGMENTS;
   const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
+  const tol = opts.plateauTolerance ?? DEFAULT_PLATEAU_TOLERANCE;
   let M = 0;
   let last = integral.length - 1;
   for (let m = want; m >= Math.min(want, MIN_SEGMENTS); m--) {
@@ -230,18 +268,46 @@ export function plateauWithSegments(
     }
   }
   if (M === 0) notes.push(`not converged: the run is too short for ${Math.min(want, MIN_SEGMENTS)} independent segments; no uncertainty`);
-  const w = plateauWindow(integral, { tolerance: opts.plateauTolerance, spanFraction: opts.plateauSpan, last });
+  const w = plateauWindow(integral, { tolerance: tol, spanFraction: opts.plateauSpan, last });
   if (!w.found && w.reason) notes.push(`not converged: ${w.reason}`);
   const window = { from: w.from, to: w.to };
   const value = windowMean(integral, window);
   const segmentValues: number[] = [];
+  const segmentCurves: Float64Array[] = [];
   let error: number | null = null;
+  let factor = 1;
   if (M > 0) {
     const L = Math.floor(samples / M);
-    for (let k = 0; k < M; k++) segmentValues.push(windowMean(segmentIntegral(k * L, L, window.to), window));
-    error = blockStatistics(segmentValues).standardError;
+    const reach = Math.min(last, Math.max(window.to, DRIFT_CHECK_FACTOR * window.to));
+    for (let k = 0; k < M; k++) {
+      const c = segmentIntegral(k * L, L, reach);
+      segmentCurves.push(c);
+      segmentValues.push(windowMean(c, window));
+    }
+    factor = segmentUncertaintyFactor(M);
+    error = blockStatistics(segmentValues).standardError * factor;
+    const fn = segmentFactorNote(M);
+    if (fn) notes.push(fn);
   }
-  return { window, found: w.found, value, segmentValues, error, segments: M, converged: w.found && M > 0, notes };
+  const drift = plateauDriftCheck(integral, segmentCurves, window, last, tol);
+  // A plateau that was not found is already flagged; the drift check speaks for found ones.
+  if (w.found && drift.reason) notes.push(`not converged: ${drift.reason}`);
+  // Beyond the lags a segment holds there is no segment uncertainty; a large departure of the
+  // full-run integral there is reported (not part of the verdict).
+  if (w.found && error !== null && integral.length - 1 > last) {
+    let kMax = last + 1;
+    for (let k = last + 1; k < integral.length; k++) if (Math.abs(integral[k] - value) > Math.abs(integral[kMax] - value)) kMax = k;
+    const dev = integral[kMax] - value;
+    if (Math.abs(dev) > Math.max(3 * error, tol * Math.abs(value))) {
+      const at = opts.timeStep !== undefined ? `${Number((kMax * opts.timeStep).toPrecision(4))} ps` : `lag ${kMax}`;
+      notes.push(
+        `beyond the lags a segment holds, the full-run running integral departs from the plateau by up to ${((100 * dev) / Math.abs(value)).toFixed(0)} % ` +
+          `(at ${at}; ${(Math.abs(dev) / error).toFixed(1)}× the uncertainty); no segment uncertainty exists there, so this is not part of the verdict — inspect the curve`,
+      );
+    }
+  }
+  const converged = w.found && M > 0 && drift.checked && !drift.drifting;
+  return { window, found: w.found, value, segmentValues, error, segments: M, uncertaintyFactor: factor, drift, converged, notes };
 }
 
 /** The VACF analysis on a finished store (see the module comment). */
@@ -266,12 +332,14 @@ export function analyseVacf(store: StorePartial, layout: SiteLayout, ctx: PassCo
   for (const g of layout.groups) {
     const c = groupVacf(view, g.sites, comps, 0, Tv, maxLag, dt);
     const running = cumulativeTrapezoid(c, dt).map((x) => x * toD);
-    const pw = plateauWithSegments(running, Tv, opts, (start, count, lag) =>
+    const pw = plateauWithSegments(running, Tv, { ...opts, timeStep: dt }, (start, count, lag) =>
       cumulativeTrapezoid(groupVacf(view, g.sites, comps, start, count, lag, dt), dt).map((x) => x * toD),
     );
     const spec = cosineSpectrum(c, dt);
     const notes = [...pw.notes];
     if (!(c[0] > 0)) notes.push('not converged: C(0) is not positive (no motion)');
+    const sampling = correlationSamplingProblem(c, dt, 'the VACF');
+    if (sampling) notes.push(`not converged: ${sampling}; the MSD value does not depend on this sampling`);
     groups.push({
       label: g.label,
       count: g.sites.length,
@@ -282,7 +350,13 @@ export function analyseVacf(store: StorePartial, layout: SiteLayout, ctx: PassCo
       plateau: { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found },
       diffusion: quantity(pw.value, pw.error, 'm^2/s'),
       segmentDiffusion: pw.segmentValues,
-      converged: pw.converged && c[0] > 0,
+      segments: pw.segments,
+      uncertaintyFactor: pw.uncertaintyFactor,
+      samplingOk: sampling === null,
+      plateauDrift: pw.drift.checked
+        ? { from: pw.drift.from * dt, to: pw.drift.to * dt, change: pw.drift.drift, error: pw.drift.error, threshold: pw.drift.threshold, drifting: pw.drift.drifting }
+        : null,
+      converged: pw.converged && c[0] > 0 && sampling === null,
       notes,
       spectrum: {
         frequencyTHz: spec.frequencyTHz,
@@ -305,8 +379,11 @@ export function analyseVacf(store: StorePartial, layout: SiteLayout, ctx: PassCo
       plateau:
         `earliest window of ${Math.round(100 * (opts.plateauSpan ?? DEFAULT_PLATEAU_SPAN))}% of the lags a segment holds (at least ${MIN_PLATEAU_POINTS}; ` +
         `searched up to half a segment so that every segment covers it) ` +
-        `over which the running integral changes by at most ±${100 * (opts.plateauTolerance ?? DEFAULT_PLATEAU_TOLERANCE)}% of its value at the window start; D = its mean there`,
-      uncertainty: `standard error over ${opts.segments ?? DEFAULT_SEGMENTS} independent segments, SD/√M, same window (Frenkel & Smit, 2nd ed., §4.4.1)`,
+        `over which the running integral changes by at most ±${100 * (opts.plateauTolerance ?? DEFAULT_PLATEAU_TOLERANCE)}% of its value at the window start; D = its mean there; ` +
+        `the integral over the later lags (up to ${DRIFT_CHECK_FACTOR}× the plateau end, inside a segment) must stay on it within the segment uncertainty ` +
+        `(two-sided 95 % Student-t test) or by the tolerance, else "running integral keeps drifting"; ` +
+        `C(Δt)/C(0) must be at least 0.5 for the trapezoid rule (for an exponential the integral is then at most 4 % too large)`,
+      uncertainty: uncertaintyRuleText(opts, groups.map((g) => ({ label: g.label, segments: g.segments }))),
       spectrum: 'S(ν) = 2∫C(t)w(t)cos(2πνt)dt with the Hann taper w = cos²(πt/(2 t_max)); S(0)/(2d) is the tapered D',
     },
   };

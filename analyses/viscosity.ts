@@ -36,6 +36,14 @@
  *   repeated with the same b and t_cut, started from the full fit (Efron & Stein, Ann. Stat. 9,
  *   586 (1981): variance (n−1)/n Σ(θ_i − θ̄)²).
  * - Bounded time constants (see `fitDoubleExponential`) and a plateau test (`plateauRise`).
+ * - Model check: a double exponential with a time constant on its bound, or with α outside
+ *   [0, 1] (a negative amplitude), is not determined by the data (`doubleExponentialProblem`);
+ *   it is replaced by the single exponential η(t) = Aτ(1 − e^{−t/τ}), the α = 1 case of the same
+ *   model (`fitSingleExponential`), and the result says so; when that too ends on a bound, the
+ *   value is flagged not converged.
+ * - Sampling: the stress autocorrelation must keep at least half of its zero-lag value after
+ *   one sample interval, or the trapezoid integral is biased (src/fit.ts
+ *   `correlationSamplingProblem`); otherwise not converged.
  *
  * Einstein–Helfand (Helfand, Phys. Rev. 119, 1 (1960)): G(t) = ∫₀^t P_αβ dt',
  *   η = lim V/(2 k_B T t) ⟨(G(t₀+t) − G(t₀))²⟩,
@@ -47,7 +55,7 @@
  * time in ps, viscosity in Pa s.
  */
 import { autocorrelation, nextPowerOfTwo } from '../src/correlate.js';
-import { fitLine, blockStatistics } from '../src/fit.js';
+import { fitLine, blockStatistics, correlationSamplingProblem } from '../src/fit.js';
 import { BOLTZMANN, CUBIC_ANGSTROM, PICOSECOND } from '../src/units.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
 import { quantity, type Quantity } from '../src/types.js';
@@ -350,6 +358,8 @@ export interface DoubleExponentialFit extends DoubleExponential {
   limit: number;
   converged: boolean;
   message: string;
+  /** Bounds of the time constants, [t_min/2, t_max/3] of the fitted times (ps). */
+  tauBounds: { lower: number; upper: number };
 }
 
 /**
@@ -526,6 +536,121 @@ export function fitDoubleExponential(
     limit: a1 + a2,
     converged: converged && finite,
     message: finite ? message : 'fit parameters not finite',
+    tauBounds: { lower: Math.exp(lnLo) * tMax, upper: tMax / 3 },
+  };
+}
+
+/** A fitted time constant within this fraction of its bound counts as sitting on the bound. */
+export const BOUND_MARGIN = 0.01;
+
+/**
+ * Why a fitted double exponential cannot be trusted, or null: a time constant on its bound
+ * (within BOUND_MARGIN: τ₁ ≤ (1 + 0.01)·t_min/2 or τ₂ ≥ (1 − 0.01)·t_max/3 — the data do not
+ * determine it, the bound does) or α outside [0, 1] (one of the two amplitudes Aατ₁,
+ * A(1 − α)τ₂ is negative: the fitted running integral overshoots and falls back, which the
+ * model of Zhang, Otani & Maginn, J. Chem. Theory Comput. 11, 3537 (2015) — a sum of two
+ * decaying relaxations — does not describe). Our rule; the paper's model assumes 0 ≤ α ≤ 1.
+ */
+export function doubleExponentialProblem(fit: DoubleExponentialFit): string | null {
+  const { lower, upper } = fit.tauBounds;
+  const out: string[] = [];
+  if (fit.alpha < 0 || fit.alpha > 1) {
+    const amp = fit.alpha > 1 ? fit.A * (1 - fit.alpha) * fit.tau2 : fit.A * fit.alpha * fit.tau1;
+    out.push(
+      `α = ${fit.alpha.toPrecision(5)} lies outside [0, 1]: the ${fit.alpha > 1 ? 'slow amplitude A(1−α)τ₂' : 'fast amplitude Aατ₁'} is negative ` +
+        `(${((100 * amp) / Math.abs(fit.limit)).toPrecision(2)} % of the fitted limit)`,
+    );
+  }
+  if (fit.tau2 >= (1 - BOUND_MARGIN) * upper) {
+    out.push(`the slow time τ₂ = ${fit.tau2.toPrecision(4)} ps sits at its upper bound t_cut/3 = ${upper.toPrecision(4)} ps (set by the bound, not the data)`);
+  }
+  if (fit.tau1 <= (1 + BOUND_MARGIN) * lower) {
+    out.push(`the fast time τ₁ = ${fit.tau1.toPrecision(4)} ps sits at its lower bound t_min/2 = ${lower.toPrecision(4)} ps (set by the bound, not the data)`);
+  }
+  return out.length ? out.join('; ') : null;
+}
+
+/**
+ * Weighted least-squares fit of the single exponential η(t) = a(1 − e^{−t/τ}) — the α = 1 case of
+ * the model of Zhang, Otani & Maginn (2015), limit a, initial slope A = a/τ — with τ bounded as in
+ * `fitDoubleExponential` ([t_min/2, t_max/3]). The model is linear in a for fixed τ, so the cost
+ * is profiled over ln τ (separable least squares, Golub & Pereyra 1973): a scan of 200 log-spaced
+ * τ, then golden-section refinement around the best (Numerical Recipes §10.2). Returned in the
+ * double-exponential form with α = 1 and τ₂ = τ₁ = τ; converged = false when τ ends on a bound.
+ */
+export function fitSingleExponential(t: ArrayLike<number>, y: ArrayLike<number>, w: ArrayLike<number>): DoubleExponentialFit {
+  const m = t.length;
+  if (m < 3) throw new AnalysisError(`single-exponential fit needs at least 3 points, got ${m}`);
+  let tMax = 0;
+  let tMin = Infinity;
+  for (let i = 0; i < m; i++) {
+    tMax = Math.max(tMax, t[i]);
+    if (t[i] > 0) tMin = Math.min(tMin, t[i]);
+  }
+  if (!(tMax > 0)) throw new AnalysisError('single-exponential fit: no positive times');
+  const lower = Math.max(tMin, 1e-9 * tMax) / 2;
+  const upper = tMax / 3;
+  const profile = (lnTau: number) => {
+    const tau = Math.exp(lnTau);
+    let sff = 0, sfy = 0, syy = 0;
+    for (let i = 0; i < m; i++) {
+      const f = -Math.expm1(-t[i] / tau);
+      sff += w[i] * f * f;
+      sfy += w[i] * f * y[i];
+      syy += w[i] * y[i] * y[i];
+    }
+    const a = sff > 0 ? sfy / sff : 0;
+    return { a, cost: syy - a * sfy };
+  };
+  const G = 200;
+  const lo = Math.log(lower);
+  const hi = Math.log(upper);
+  let best = 0;
+  let bestCost = Infinity;
+  const grid = Array.from({ length: G + 1 }, (_, k) => lo + ((hi - lo) * k) / G);
+  grid.forEach((x, k) => {
+    const c = profile(x).cost;
+    if (c < bestCost) {
+      bestCost = c;
+      best = k;
+    }
+  });
+  let a0 = grid[Math.max(0, best - 1)];
+  let b0 = grid[Math.min(G, best + 1)];
+  const phi = (Math.sqrt(5) - 1) / 2;
+  let x1 = b0 - phi * (b0 - a0);
+  let x2 = a0 + phi * (b0 - a0);
+  let f1 = profile(x1).cost;
+  let f2 = profile(x2).cost;
+  for (let i = 0; i < 200 && b0 - a0 > 1e-12; i++) {
+    if (f1 < f2) {
+      b0 = x2;
+      x2 = x1;
+      f2 = f1;
+      x1 = b0 - phi * (b0 - a0);
+      f1 = profile(x1).cost;
+    } else {
+      a0 = x1;
+      x1 = x2;
+      f1 = f2;
+      x2 = a0 + phi * (b0 - a0);
+      f2 = profile(x2).cost;
+    }
+  }
+  const lnTau = 0.5 * (a0 + b0);
+  const tau = Math.exp(lnTau);
+  const { a } = profile(lnTau);
+  const onBound = tau <= (1 + BOUND_MARGIN) * lower || tau >= (1 - BOUND_MARGIN) * upper;
+  const finite = Number.isFinite(a) && Number.isFinite(tau);
+  return {
+    A: a / tau,
+    alpha: 1,
+    tau1: tau,
+    tau2: tau,
+    limit: a,
+    converged: finite && !onBound,
+    message: !finite ? 'fit parameters not finite' : onBound ? 'the time constant sits on a bound' : 'minimum inside the bounds',
+    tauBounds: { lower, upper },
   };
 }
 
@@ -667,7 +792,20 @@ export interface ViscosityResult {
   /** Per component: the mean removed (table pressure unit) and η(t_cut) ± standard error over segments. */
   components: Array<{ name: string; meanRemoved: number; runningIntegralEnd: Quantity }>;
   weighting: string;
-  fit: { A: Quantity; alpha: number; tau1: Quantity; tau2: Quantity; b: number; sigmaPrefactor: number; converged: boolean; plateauReached: number };
+  fit: {
+    /** The model fitted: the double exponential, or the single one when the double was rejected. */
+    model: 'double exponential' | 'single exponential';
+    /** Why the double exponential was rejected (`doubleExponentialProblem`), or null. */
+    rejectedDoubleExponential: string | null;
+    A: Quantity;
+    alpha: number;
+    tau1: Quantity;
+    tau2: Quantity;
+    b: number;
+    sigmaPrefactor: number;
+    converged: boolean;
+    plateauReached: number;
+  };
   helfand: Quantity | null;
   helfandWindow: { from: number; to: number; unit: 'ps' } | null;
   segments: number;
@@ -722,8 +860,9 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const probeCap = Math.max(16, Math.floor(probeLength / 20));
   let probeLag = Math.min(probeCap, 1 << 13);
   let tc: { tau: number; decayed: boolean };
+  let probe: Float64Array;
   for (;;) {
-    const probe = new Float64Array(probeLag + 1);
+    probe = new Float64Array(probeLag + 1);
     for (const c of components) {
       const a = autocorrelation(c.values.subarray(0, probeLength), { maxLag: probeLag });
       for (let k = 0; k <= probeLag; k++) probe[k] += a[k] / nc;
@@ -732,6 +871,8 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
     if (tc.decayed || probeLag >= probeCap) break;
     probeLag = Math.min(probeCap, probeLag * 8);
   }
+  const sampling = correlationSamplingProblem(probe!, dt, 'the shear-stress autocorrelation');
+  if (sampling) reasons.push(sampling);
   if (!tc.decayed) {
     reasons.push(`the stress autocorrelation does not reach zero within ${(probeLag * dt).toPrecision(3)} ps (1/20 of the first ${probeLength} samples): the correlation never decays in the data`);
   }
@@ -830,18 +971,48 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const ft = fitIdx.map((k) => time[k]);
   const fw = ft.map((t) => 1 / Math.pow(t, b));
   let fit: DoubleExponentialFit | null = null;
+  let model: 'double exponential' | 'single exponential' = 'double exponential';
+  let rejected: string | null = null;
+  const fy = fitIdx.map((k) => mean[k]);
   try {
-    fit = fitDoubleExponential(ft, fitIdx.map((k) => mean[k]), fw);
+    fit = fitDoubleExponential(ft, fy, fw);
   } catch (e) {
     reasons.push(`the double-exponential fit failed: ${(e as Error).message}`);
   }
+  // A time constant on its bound or α outside [0, 1]: the data do not support two decaying
+  // relaxations; fall back to one (the α = 1 case of the same model).
+  const problem = fit ? doubleExponentialProblem(fit) : null;
+  if (fit && problem) {
+    rejected = problem;
+    let single: DoubleExponentialFit | null = null;
+    try {
+      single = fitSingleExponential(ft, fy, fw);
+    } catch {
+      single = null;
+    }
+    if (single && single.converged && single.limit > 0) {
+      fit = single;
+      model = 'single exponential';
+      notes.push(
+        `double exponential rejected (${problem}); the single exponential η(t) = Aτ(1 − e^{−t/τ}), the α = 1 case of the ` +
+          `Zhang, Otani & Maginn (2015) model, is fitted instead (τ = ${single.tau1.toPrecision(4)} ps, inside [${single.tauBounds.lower.toPrecision(3)}, ${single.tauBounds.upper.toPrecision(4)}] ps)`,
+      );
+    } else {
+      reasons.push(
+        `the double-exponential fit is not determined by the data (${problem}), and a single exponential does not fit either ` +
+          `(${single ? single.message : 'fit failed'}): the long-time limit is not trustworthy`,
+      );
+    }
+  }
+  const refit = (y: number[], start: DoubleExponentialFit) =>
+    model === 'single exponential' ? fitSingleExponential(ft, y, fw) : fitDoubleExponential(ft, y, fw, start);
   let eta = NaN;
   let etaErr: number | null = null;
   let plateau = NaN;
   const fitCurve = new Float64Array(L).fill(NaN);
   if (fit) {
     eta = fit.limit;
-    if (!fit.converged) reasons.push(`the double-exponential fit did not converge (${fit.message})`);
+    if (!fit.converged) reasons.push(`the ${model} fit did not converge (${fit.message})`);
     for (let k = 0; k < L; k++) fitCurve[k] = doubleExponential(time[k], fit);
     plateau = doubleExponential(time[kCut], fit) / fit.limit;
     if (!(Math.abs(1 - plateau) <= PLATEAU_TOLERANCE)) {
@@ -862,7 +1033,7 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
     for (let u = 0; u < U; u++) {
       const y = fitIdx.map((k) => (U * mean[k] - unitCurves[u][k]) / (U - 1));
       try {
-        const f = fitDoubleExponential(ft, y, fw, fit);
+        const f = refit(y, fit);
         if (Number.isFinite(f.limit)) jack.push(f.limit);
       } catch {
         /* counted below */
@@ -915,13 +1086,13 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const rIdx = thinIndices(0, maxLag, MAX_REPORT_POINTS);
   const pick = (a: Float64Array) => Float64Array.from(rIdx, (k) => a[k]);
   notes.push(
-    `uncertainty of η: jackknife over the ${U} independent running integrals (${N} segments × ${nc} components) of the weighted double-exponential fit (b and the cut-off held fixed)`,
+    `uncertainty of η: jackknife over the ${U} independent running integrals (${N} segments × ${nc} components) of the weighted ${model} fit (b and the cut-off held fixed)`,
   );
   if (N < 10) notes.push(`only ${N} segments: σ(t) and the uncertainty rest on few independent estimates`);
   const converged = reasons.length === 0 && etaErr !== null;
   const result: ViscosityResult = {
     viscosity: quantity(eta, etaErr, 'Pa s'),
-    method: 'Green–Kubo, time-decomposition (Zhang, Otani & Maginn 2015) with Daivis–Evans component averaging',
+    method: `Green–Kubo, time-decomposition (Zhang, Otani & Maginn 2015) with Daivis–Evans component averaging; ${model} fit`,
     runningIntegral: { time: pick(time), eta: pick(mean), sigma: pick(sigma), fit: pick(fitCurve) },
     cutoffTime: quantity(kCut * dt, null, 'ps'),
     cutoffFraction: fraction,
@@ -933,6 +1104,8 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
         ? 'Daivis–Evans: mean of the five equivalent, uncorrelated components xy, xz, yz, (xx−yy)/2, (2zz−xx−yy)/(2√3), weight 1/5 each (equals V/(10 k_B T)∫Σ⟨P°αβ P°αβ⟩ over the traceless tensor)'
         : `equal weights (1/${nc}) over the available components ${components.map((c) => c.name).join(', ')}`,
     fit: {
+      model,
+      rejectedDoubleExponential: rejected,
       A: quantity(fit ? fit.A : NaN, null, 'Pa s/ps'),
       alpha: fit ? fit.alpha : NaN,
       tau1: quantity(fit ? fit.tau1 : NaN, null, 'ps'),

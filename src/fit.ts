@@ -14,9 +14,21 @@
  *   coefficient is computed in each over the same window, and its standard error is SD/√M
  *   (standard error over independent blocks: Frenkel & Smit, Understanding Molecular
  *   Simulation, 2nd ed. (2002), §4.4.1; Flyvbjerg & Petersen, J. Chem. Phys. 91, 461 (1989)).
- *   The window must fit inside a segment under the same f_max rule; if it does not, an automatic
- *   window is shrunk, then M is reduced (never below MIN_SEGMENTS = 3); otherwise no
- *   uncertainty is given and the result is flagged not converged.
+ *   An automatic window is searched only among the lags a segment can hold, 1 … ⌊f_max (L−1)⌋
+ *   with L = ⌊T/M⌋ (`segmentedDiffusiveWindow`): M as asked first, then fewer segments (never
+ *   below MIN_SEGMENTS = 3) when no window is found, so that the window and the segments agree
+ *   from the start. A user window must fit inside a segment as given (`planSegments` reduces M);
+ *   otherwise no uncertainty is given and the result is flagged not converged.
+ * - Few segments: with M < FULL_CONFIDENCE_SEGMENTS (5) the standard error rests on M − 1 degrees
+ *   of freedom and is multiplied by the Student-t factor t_{Φ(1), M−1} (Φ(1) = 0.8413), so that the
+ *   stated ± stays the half-width of a 68.3 % confidence interval (Student, Biometrika 6, 1 (1908));
+ *   from 5 segments on it is the plain standard error (`segmentUncertaintyFactor`).
+ * - Sampling: a correlation function integrated by the trapezoid rule must not lose more than
+ *   half of its value within one sample interval (`correlationSamplingProblem`); for an
+ *   exponential decay the trapezoid integral is then at most 4 % too large (closed form below).
+ * - Plateau drift: after the plateau of a running integral is chosen, the integral over the lags
+ *   after it (up to 3× the plateau end, inside a segment) must stay within the segment-based
+ *   uncertainty of the change (`plateauDriftCheck`); otherwise "running integral keeps drifting".
  */
 import { UsageError } from './errors.js';
 
@@ -151,6 +163,8 @@ export interface WindowOptions {
   tolerance?: number;
   maxFraction?: number;
   minPoints?: number;
+  /** Largest lag index searched (the lags a segment can hold); default ⌊f_max (T−1)⌋. */
+  maxLag?: number;
 }
 
 /** Largest lag index allowed by the f_max rule for a series of `frames` frames: ⌊f_max (T−1)⌋. */
@@ -160,10 +174,11 @@ export function maxLagIndex(frames: number, maxFraction = DEFAULT_MAX_FRACTION):
 
 /**
  * Automatic diffusive window of an MSD-like curve y(t) (y ∝ t in the diffusive regime): the
- * longest contiguous run of lags 1 … ⌊f_max (T−1)⌋ with |β − 1| ≤ tol, β from `logLogSlopes`
- * (rule in the module comment; common practice, no source). `frames` is the run length T the
- * curve was computed from (y may be shorter). When no run of at least `minPoints` lags
- * exists, returns the fallback window [⌈cap/5⌉, cap] with found = false and the reason.
+ * longest contiguous run of lags 1 … cap with |β − 1| ≤ tol, β from `logLogSlopes`, cap =
+ * ⌊f_max (T−1)⌋ or `maxLag` when smaller (rule in the module comment; common practice, no
+ * source). `frames` is the run length T the curve was computed from (y may be shorter). When no
+ * run of at least `minPoints` lags exists, returns the fallback window [⌈cap/5⌉, cap] with
+ * found = false and the reason.
  */
 export function diffusiveWindow(
   time: ArrayLike<number>,
@@ -173,7 +188,7 @@ export function diffusiveWindow(
 ): WindowChoice {
   const tol = opts.tolerance ?? DEFAULT_SLOPE_TOLERANCE;
   const minPoints = opts.minPoints ?? MIN_WINDOW_POINTS;
-  const cap = Math.min(maxLagIndex(frames, opts.maxFraction), Math.min(time.length, y.length) - 1);
+  const cap = Math.min(maxLagIndex(frames, opts.maxFraction), Math.min(time.length, y.length) - 1, opts.maxLag ?? Infinity);
   if (cap < 2) {
     return { from: 1, to: Math.max(1, cap), found: false, reason: `only ${frames} frames: no lags to fit` };
   }
@@ -196,7 +211,7 @@ export function diffusiveWindow(
     found: false,
     reason:
       `no run of at least ${minPoints} lags where d ln MSD/d ln t stays within 1 ± ${tol} ` +
-      `(longest ${longest}); fitted over the fallback window (20–100% of the first ${Math.round(100 * (opts.maxFraction ?? DEFAULT_MAX_FRACTION))}% of the run)`,
+      `(longest ${longest}) among lags 1–${cap}; fitted over the fallback window (lags ${fallback.from}–${fallback.to})`,
   };
 }
 
@@ -300,6 +315,170 @@ export function planSegments(
   };
 }
 
+/** Outcome of the automatic window search among the lags a segment holds. */
+export interface SegmentedWindow {
+  /** The window (inclusive lag indices), inside a segment of `segmentFrames` frames. */
+  window: LagWindow;
+  /** True when a window satisfying the slope rule was found. */
+  found: boolean;
+  /** Number of segments (0 when no count down to MIN_SEGMENTS leaves room for a window). */
+  segments: number;
+  /** Frames per segment ⌊T/M⌋ (0 with no segments). */
+  segmentFrames: number;
+  /** Largest lag a segment of this plan holds, ⌊f_max (L−1)⌋ (the search cap). */
+  cap: number;
+  /** True when the plan gives an uncertainty. */
+  ok: boolean;
+  /** What was chosen and why ("not converged: …" for a failure). */
+  notes: string[];
+}
+
+/**
+ * Automatic diffusive window searched only among the lags a segment can hold, so that the window
+ * and the segments of the uncertainty agree from the start (rule in the module comment; common
+ * practice, no source): for M = `segments` (default 5) down to MIN_SEGMENTS, cap_M =
+ * ⌊f_max (⌊T/M⌋ − 1)⌋; counts whose cap is below `minPoints` are skipped; the first M whose lags
+ * 1 … cap_M hold a window (`diffusiveWindow` with maxLag = cap_M) is used. When none does, the
+ * fallback window of the first usable M is returned with found = false; when no M is usable,
+ * the fallback window of the whole run with segments = 0 (no uncertainty).
+ */
+export function segmentedDiffusiveWindow(
+  time: ArrayLike<number>,
+  y: ArrayLike<number>,
+  frames: number,
+  opts: WindowOptions & { segments?: number } = {},
+): SegmentedWindow {
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  const minPoints = opts.minPoints ?? MIN_WINDOW_POINTS;
+  const lowest = Math.min(want, MIN_SEGMENTS);
+  let firstUsable: { m: number; cap: number; choice: WindowChoice } | null = null;
+  for (let m = want; m >= lowest; m--) {
+    const L = Math.floor(frames / m);
+    const cap = Math.min(maxLagIndex(L, opts.maxFraction), Math.min(time.length, y.length) - 1);
+    if (cap < minPoints) continue;
+    const choice = diffusiveWindow(time, y, frames, { ...opts, maxLag: cap });
+    if (!firstUsable) firstUsable = { m, cap, choice };
+    if (choice.found) {
+      const capWant = maxLagIndex(Math.floor(frames / want), opts.maxFraction);
+      const notes =
+        m !== want
+          ? [`${m} segments instead of ${want}: the lags 1–${capWant} a segment of ${want} holds contain no diffusive window of at least ${minPoints} lags`]
+          : [];
+      return { window: { from: choice.from, to: choice.to }, found: true, segments: m, segmentFrames: L, cap, ok: true, notes };
+    }
+  }
+  if (firstUsable) {
+    const { m, cap, choice } = firstUsable;
+    return {
+      window: { from: choice.from, to: choice.to },
+      found: false,
+      segments: m,
+      segmentFrames: Math.floor(frames / m),
+      cap,
+      ok: true,
+      notes: [`not converged: ${choice.reason}${m !== want ? ` (${m} segments)` : ''}`],
+    };
+  }
+  const whole = diffusiveWindow(time, y, frames, opts);
+  return {
+    window: { from: whole.from, to: whole.to },
+    found: false,
+    segments: 0,
+    segmentFrames: 0,
+    cap: whole.to,
+    ok: false,
+    notes: [
+      ...(whole.found ? [] : [`not converged: ${whole.reason}`]),
+      `not converged: the fit window (lags ${whole.from}–${whole.to}) does not fit in ${lowest} independent segments of the run ` +
+        `(${frames} frames; a segment must hold at least ${minPoints} lags): no uncertainty can be given; run longer`,
+    ],
+  };
+}
+
+/** Φ(1) = 0.841344746…: probability that a standard normal variable is below 1 (one-sigma level). */
+export const ONE_SIGMA_LEVEL = 0.8413447460685429;
+/** From this many segments on, the plain standard error is given (below: Student-t widened). */
+export const FULL_CONFIDENCE_SEGMENTS = 5;
+
+/**
+ * Cumulative distribution of Student's t with ν (integer ≥ 1) degrees of freedom, by the finite
+ * series of Abramowitz & Stegun, Handbook of Mathematical Functions (1964), 26.7.3 (ν odd) and
+ * 26.7.4 (ν even): with θ = arctan(|t|/√ν), A(t|ν) = P(|T| ≤ |t|) =
+ * (2/π)[θ + sin θ (cos θ + (2/3)cos³θ + … + (2·4···(ν−3))/(1·3···(ν−2)) cos^{ν−2}θ)] for odd ν
+ * (the bracket's series empty for ν = 1), sin θ [1 + (1/2)cos²θ + … + (1·3···(ν−3))/(2·4···(ν−2))
+ * cos^{ν−2}θ] for even ν; F(t) = (1 ± A)/2.
+ */
+export function studentTCdf(t: number, dof: number): number {
+  if (!(Number.isInteger(dof) && dof >= 1)) throw new RangeError(`studentTCdf: degrees of freedom must be a whole number ≥ 1, got ${dof}`);
+  if (t === Infinity) return 1;
+  if (t === -Infinity) return 0;
+  const theta = Math.atan(Math.abs(t) / Math.sqrt(dof));
+  const s = Math.sin(theta);
+  const c2 = Math.cos(theta) ** 2;
+  let A: number;
+  if (dof % 2 === 1) {
+    let sum = 0;
+    if (dof > 1) {
+      let term = Math.cos(theta);
+      sum = term;
+      for (let j = 3; j <= dof - 2; j += 2) {
+        term *= ((j - 1) / j) * c2;
+        sum += term;
+      }
+    }
+    A = (2 / Math.PI) * (theta + s * sum);
+  } else {
+    let term = 1;
+    let sum = 1;
+    for (let j = 2; j <= dof - 2; j += 2) {
+      term *= ((j - 1) / j) * c2;
+      sum += term;
+    }
+    A = s * sum;
+  }
+  return t >= 0 ? 0.5 * (1 + A) : 0.5 * (1 - A);
+}
+
+/**
+ * Quantile t_{p,ν} of Student's t (F(t_{p,ν}) = p, 0 < p < 1, integer ν ≥ 1): bisection on the
+ * exact CDF `studentTCdf` to 1e-13 relative (Abramowitz & Stegun 26.7.3–4).
+ */
+export function studentTQuantile(p: number, dof: number): number {
+  if (!(p > 0 && p < 1)) throw new RangeError(`studentTQuantile: p must lie in (0, 1), got ${p}`);
+  if (p < 0.5) return -studentTQuantile(1 - p, dof);
+  if (p === 0.5) return 0;
+  let hi = 1;
+  while (studentTCdf(hi, dof) < p) hi *= 2;
+  let lo = 0;
+  for (let i = 0; i < 200 && hi - lo > 1e-13 * hi; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (studentTCdf(mid, dof) < p) lo = mid;
+    else hi = mid;
+  }
+  return 0.5 * (lo + hi);
+}
+
+/**
+ * Factor applied to a standard error over M independent segments: t_{Φ(1), M−1} (Student's t
+ * quantile at the one-sigma level Φ(1) = 0.8413 for M − 1 degrees of freedom, divided by the
+ * normal quantile z = 1) when M < FULL_CONFIDENCE_SEGMENTS, else 1 (module comment; Student,
+ * Biometrika 6, 1 (1908)). E.g. M = 3: 1.32; M = 4: 1.20.
+ */
+export function segmentUncertaintyFactor(segments: number): number {
+  if (segments >= FULL_CONFIDENCE_SEGMENTS) return 1;
+  if (segments < 2) return NaN;
+  return studentTQuantile(ONE_SIGMA_LEVEL, segments - 1);
+}
+
+/** Text of the few-segment rule for a note, or null when no widening applies. */
+export function segmentFactorNote(segments: number): string | null {
+  if (segments >= FULL_CONFIDENCE_SEGMENTS || segments < 2) return null;
+  return (
+    `only ${segments} independent segments (${segments - 1} degrees of freedom): the standard error is multiplied by ` +
+    `t(0.8413, ${segments - 1}) = ${segmentUncertaintyFactor(segments).toFixed(3)} (Student's t) so that ± stays a 68 % confidence half-width`
+  );
+}
+
 /** Default relative tolerance of the plateau rule. */
 export const DEFAULT_PLATEAU_TOLERANCE = 0.02;
 /** Default plateau span as a fraction of the analysed lags. */
@@ -346,6 +525,86 @@ export function plateauWindow(
   };
 }
 
+/** Outcome of `plateauDriftCheck`. */
+export interface PlateauDrift {
+  /** Lags compared with the plateau: [from, to] (inclusive); from > to when there are none. */
+  from: number;
+  to: number;
+  /** Mean of the integral over those lags minus its mean over the plateau (full run). */
+  drift: number;
+  /** Standard error of that change over the segments (paired per segment), or null. */
+  error: number | null;
+  /** |drift| beyond which the integral counts as drifting. */
+  threshold: number;
+  /** True when the lags after the plateau were checked. */
+  checked: boolean;
+  /** True when the running integral leaves the plateau by more than the threshold. */
+  drifting: boolean;
+  /** The reason when not checked or drifting ("running integral keeps drifting …"), else null. */
+  reason: string | null;
+}
+
+/** How far past the plateau end the drift check looks: up to this multiple of the end lag. */
+export const DRIFT_CHECK_FACTOR = 3;
+
+/**
+ * Does a running integral stay on its plateau? Compares the integral over the later lags
+ * (window.to, end] — end = min(DRIFT_CHECK_FACTOR·window.to, cap), cap being the largest lag a
+ * segment holds — with its plateau mean: Δ = mean_later(I) − mean_plateau(I) on the full run, and
+ * per segment k the same difference d_k, whose standard error SE = SD(d)/√M (paired blocks,
+ * Frenkel & Smit, 2nd ed., §4.4.1) is the uncertainty of Δ. Drifting when |Δ| exceeds both
+ * t_{0.975, M−1}·SE (a two-sided 95 % test of "no change", Student 1908) and tol·|plateau mean|
+ * (a change below the plateau tolerance is immaterial). With fewer than 2 segments only the
+ * tolerance applies. Fewer than MIN_PLATEAU_POINTS later lags: not checked, with the reason.
+ * Common practice, no source for the rule itself.
+ */
+export function plateauDriftCheck(
+  full: ArrayLike<number>,
+  segments: ReadonlyArray<ArrayLike<number>>,
+  window: LagWindow,
+  cap: number,
+  tolerance = DEFAULT_PLATEAU_TOLERANCE,
+): PlateauDrift {
+  const end = Math.min(DRIFT_CHECK_FACTOR * window.to, cap, full.length - 1, ...segments.map((c) => c.length - 1));
+  const later = { from: window.to + 1, to: end };
+  const plateauMean = windowMean(full, window);
+  if (end - window.to < MIN_PLATEAU_POINTS) {
+    return {
+      ...later,
+      drift: NaN,
+      error: null,
+      threshold: NaN,
+      checked: false,
+      drifting: false,
+      reason:
+        `only ${Math.max(0, end - window.to)} lag(s) after the plateau inside a segment (fewer than ${MIN_PLATEAU_POINTS}): ` +
+        'cannot check that the running integral stays on it',
+    };
+  }
+  const drift = windowMean(full, later) - plateauMean;
+  let error: number | null = null;
+  let threshold = tolerance * Math.abs(plateauMean);
+  if (segments.length >= 2) {
+    const d = segments.map((c) => windowMean(c, later) - windowMean(c, window));
+    error = blockStatistics(d).standardError;
+    threshold = Math.max(threshold, studentTQuantile(0.975, segments.length - 1) * error);
+  }
+  const drifting = !(Math.abs(drift) <= threshold);
+  return {
+    ...later,
+    drift,
+    error,
+    threshold,
+    checked: true,
+    drifting,
+    reason: drifting
+      ? `running integral keeps drifting: over lags ${later.from}–${later.to} (up to ${DRIFT_CHECK_FACTOR}× the plateau end) its mean differs from the plateau by ` +
+        `${((100 * drift) / Math.abs(plateauMean)).toFixed(0)} %` +
+        (error !== null ? ` (${(Math.abs(drift) / error).toFixed(1)} standard errors over ${segments.length} segments)` : '')
+      : null,
+  };
+}
+
 /** Mean of values[from..to] (inclusive). */
 export function windowMean(values: ArrayLike<number>, w: LagWindow): number {
   let s = 0;
@@ -361,4 +620,45 @@ export function cumulativeTrapezoid(y: ArrayLike<number>, dt: number): Float64Ar
   const out = new Float64Array(y.length);
   for (let m = 1; m < y.length; m++) out[m] = out[m - 1] + 0.5 * dt * (y[m - 1] + y[m]);
   return out;
+}
+
+/** Smallest C(Δt)/C(0) of a correlation sampled every Δt that is integrated by the trapezoid rule without a flag. */
+export const CORRELATION_SAMPLING_RATIO = 0.5;
+
+/**
+ * Relative overestimate of the trapezoid integral of an exponential decay C(t) = C(0)e^{−t/τ}
+ * sampled every h, as a function of r = C(h)/C(0) = e^{−h/τ}: the trapezoid sum over all steps is
+ * h(1/2 + r/(1 − r)) = (h/2)(1 + r)/(1 − r) against the exact τ = −h/ln r (geometric series), a
+ * ratio x·coth(x) with x = −ln(r)/2 — the same for every step, hence for the whole integral.
+ * Returns x·coth(x) − 1 (closed form; e.g. 1.5 ln 2 − 1 = 0.0397 at r = 0.5, 1.38 at r = 0.0094).
+ */
+export function trapezoidExponentialBias(r: number): number {
+  if (!(r > 0 && r < 1)) return r === 1 ? 0 : NaN;
+  const x = -Math.log(r) / 2;
+  return x / Math.tanh(x) - 1;
+}
+
+/**
+ * Whether a correlation function c (c[0] at lag 0, c[1] one sample interval `dt` ps later) is
+ * sampled finely enough to be integrated by the trapezoid rule: null when
+ * c[1]/c[0] ≥ CORRELATION_SAMPLING_RATIO (0.5) or c[0] ≤ 0 (other checks report that), otherwise
+ * the reason, naming `what` and the bias the trapezoid rule would have for an exponential decay
+ * (`trapezoidExponentialBias`: at most 4 % at the threshold). A correlation that loses most of
+ * its value within one interval lies mostly inside the first trapezoid, whose area depends on the
+ * unseen shape between the samples; no correction can recover it. Segment uncertainties cannot
+ * see this bias (every segment shares it).
+ */
+export function correlationSamplingProblem(c: ArrayLike<number>, dt: number, what: string): string | null {
+  if (c.length < 2 || !(c[0] > 0) || !Number.isFinite(c[1])) return null;
+  const r = c[1] / c[0];
+  if (r >= CORRELATION_SAMPLING_RATIO) return null;
+  const pct = (x: number) => (Math.abs(x) >= 10 ? x.toFixed(0) : x.toPrecision(2));
+  const head =
+    `${what} falls to ${pct(100 * r)} % of its zero-lag value within one sample interval (${Number(dt.toPrecision(6))} ps): ` +
+    `too coarsely sampled for the trapezoid rule (C(Δt)/C(0) must be at least ${CORRELATION_SAMPLING_RATIO})`;
+  if (!(r > 0)) return `${head}; the integral depends on the unseen shape between the samples — store frames more often`;
+  return (
+    `${head}; for an exponential decay the integral would come out ${pct(100 * trapezoidExponentialBias(r))} % too large — ` +
+    'store frames (velocities) more often'
+  );
 }

@@ -263,3 +263,87 @@ describe('charge layouts', () => {
     expect(Array.from(q2)).toEqual([1, -1, 0, 1, -1, 0, 0, 0]);
   });
 });
+
+describe('ions among partially charged solvent', () => {
+  // 12 Na⁺ and 12 Cl⁻ random walks (step SD 0.1 and 0.07 Å per axis every 0.01 ps) plus 12 rigid
+  // "water" molecules (O −0.8476, two H +0.4238: neutral) whose centres walk with SD 0.08 Å, in a
+  // 25 Å cube. Truth: Nernst–Einstein counts independent ions only, σ_NE = e²/(VkT) Σ N z² D
+  // (e.g. Hansen & McDonald, Theory of Simple Liquids, 4th ed.), and c = N(cations)/(N_A V); the
+  // water's partial charges carry no net charge and must change neither. The atoms, masses and
+  // paths are identical in both runs (only the charges differ), so both numbers must agree to
+  // round-off (1e-12 relative).
+  const nIon = 12, nW = 12, frames = 3000, dt = 0.01, L = 25, T = 300;
+  const labels = [...Array.from({ length: nIon }, () => 'Na'), ...Array.from({ length: nIon }, () => 'Cl')];
+  for (let w = 0; w < nW; w++) labels.push('O', 'H', 'H');
+  const masses = Float64Array.from(labels, (l) => ({ Na: 22.99, Cl: 35.45, O: 16.0, H: 1.008 })[l]!);
+  const steps = [...Array.from({ length: nIon }, () => 0.1), ...Array.from({ length: nIon }, () => 0.07), ...Array.from({ length: nW }, () => 0.08)];
+  const centres = walks(steps, frames, 404);
+  const offsets = [[0, 0, 0], [0.757, 0.586, 0], [-0.757, 0.586, 0]];
+  const pos = centres.map((c) => {
+    const p = new Float64Array(3 * labels.length);
+    p.set(c.subarray(0, 3 * 2 * nIon));
+    for (let w = 0; w < nW; w++) {
+      const o = 3 * (2 * nIon + w);
+      for (let j = 0; j < 3; j++) for (let k = 0; k < 3; k++) p[3 * (2 * nIon + 3 * w + j) + k] = c[o + k] + offsets[j][k];
+    }
+    return p;
+  });
+  const cell = orthorhombicCell(L, L, L);
+  const wrapped = wrapAll(pos, cell);
+  const topo: Topology = { atoms: labels.length, labels, elements: labels, masses, charges: null, residues: null };
+  const base = { temperature: T, fitFrom: dt, fitTo: 20 * dt };
+  const ionsOnly = run({ ...base, charges: parseChargeRules('Na=+1,Cl=-1') }, topo, wrapped, null, cell, dt);
+  const withWater = run({ ...base, charges: parseChargeRules('Na=+1,Cl=-1,O=-0.8476,H=+0.4238') }, topo, wrapped, null, cell, dt);
+
+  it('Nernst–Einstein and the concentration are unchanged by the water partial charges', () => {
+    expect(relDiff(withWater.nernstEinstein.value, ionsOnly.nernstEinstein.value)).toBeLessThan(1e-12);
+    expect(relDiff(withWater.nernstEinstein.uncertainty!, ionsOnly.nernstEinstein.uncertainty!)).toBeLessThan(1e-12);
+    expect(relDiff(withWater.concentration!.value, ionsOnly.concentration!.value)).toBeLessThan(1e-12);
+    // c = 12/(6.02214076e23 · 15625e-30 m³) = 1275.3 mol/m³ = 1.2753 mol/L (hand; 5 figures).
+    expect(relDiff(withWater.concentration!.value, 1.2753)).toBeLessThan(1e-4);
+    // The ions are the species; the water sites are listed as current-only, and the output says so.
+    expect(withWater.species.map((x) => x.label)).toEqual(['Na', 'Cl']);
+    expect(withWater.otherCharged.map((x) => [x.label, x.count, x.ion])).toEqual([['O', 12, false], ['H', 24, false]]);
+    expect(withWater.notes.join(' ')).toMatch(/36 charged site\(s\) are not ions/);
+  });
+
+  it('Nernst–Einstein still matches the closed form with D = s²/(2Δt)', () => {
+    // Tolerance: each ion species' D rests on n = 3·12·⌊3000/20⌋ = 5400 independent 20-step
+    // displacements → relative SD √(2/n) = 0.019; the NE sum is dominated by Na (0.01 vs 0.0049):
+    // 4 SD = 7.7 %, plus the centre-of-mass removal (mass-weighted over all 60 atoms, < 2 %): 10 %.
+    const sigmaTrue = ((ELEMENTARY_CHARGE ** 2) / (L ** 3 * 1e-30 * BOLTZMANN * T)) * nIon * ((0.01 + 0.0049) / (2 * dt)) * 1e-8;
+    expect(relDiff(withWater.nernstEinstein.value, sigmaTrue)).toBeLessThan(0.1);
+  });
+
+  it('the water charges do enter the collective current', () => {
+    // Truth: M = Σ q_i r_i over all charged sites; rigid neutral molecules add q·(offset) dipoles
+    // that are constant here (no rotation), so ΔM and the Einstein–Helfand value are unchanged too
+    // (algebra: a constant drops out of every displacement); agreement to 1e-9 relative.
+    expect(relDiff(withWater.einsteinHelfand.value, ionsOnly.einsteinHelfand.value)).toBeLessThan(1e-9);
+  });
+
+  it('scaled ion charges count as ions only when named with --ions', () => {
+    // ±0.8 e is not a whole charge: by the rule nothing is an ion and no Nernst–Einstein value is
+    // given; naming the ions restores it with z = 0.8, i.e. 0.64 × the unit-charge value (z² scaling
+    // of Nernst–Einstein; algebra), to round-off.
+    const scaled = parseChargeRules('Na=+0.8,Cl=-0.8,O=-0.8476,H=+0.4238');
+    const none = run({ ...base, charges: scaled }, topo, wrapped, null, cell, dt);
+    expect(Number.isNaN(none.nernstEinstein.value)).toBe(true);
+    expect(none.converged).toBe(false);
+    expect(none.notes.join(' ')).toMatch(/--ions/);
+    const named = run({ ...base, charges: scaled, ions: 'Na,Cl' }, topo, wrapped, null, cell, dt);
+    expect(relDiff(named.nernstEinstein.value, 0.64 * ionsOnly.nernstEinstein.value)).toBeLessThan(1e-12);
+    expect(relDiff(named.concentration!.value, ionsOnly.concentration!.value)).toBeLessThan(1e-12);
+  });
+
+  it('with residues, a single-atom residue with a whole charge is an ion; atoms of a neutral molecule are not', () => {
+    // Same rule on a residue topology: NA and CL residues of one atom each, SOL residues of three.
+    const names = labels.map((l) => (l === 'Na' ? 'NA' : l === 'Cl' ? 'CL' : 'SOL'));
+    const molecule = Int32Array.from(labels, (_, a) => (a < 2 * nIon ? a : 2 * nIon + Math.floor((a - 2 * nIon) / 3)));
+    const res: Topology = { ...topo, residues: { names, numbers: Int32Array.from(molecule, (m) => m + 1), chains: names.map(() => ''), molecule, count: 2 * nIon + nW } };
+    const layout = chargeLayout(res, atomCharges(res, parseChargeRules('Na=+1,Cl=-1,O=-0.8476,H=+0.4238')), false);
+    expect(layout.groups.map((g) => [g.label, g.ion])).toEqual([['Na', true], ['Cl', true], ['O', false], ['H', false]]);
+    const r = run({ ...base, charges: parseChargeRules('Na=+1,Cl=-1,O=-0.8476,H=+0.4238') }, res, wrapped, null, cell, dt);
+    expect(relDiff(r.nernstEinstein.value, ionsOnly.nernstEinstein.value)).toBeLessThan(1e-12);
+  });
+});

@@ -4,15 +4,24 @@
  * statistics library (simple-statistics) and closed-form curves.
  */
 import { describe, expect, it } from 'vitest';
-import { linearRegression, sampleStandardDeviation } from 'simple-statistics';
+import { cumulativeStdNormalProbability, linearRegression, sampleStandardDeviation } from 'simple-statistics';
 import {
   blockStatistics,
+  correlationSamplingProblem,
+  cumulativeTrapezoid,
   diffusiveWindow,
   fitLine,
   logLogSlopes,
   maxLagIndex,
   planSegments,
+  plateauDriftCheck,
+  segmentedDiffusiveWindow,
+  segmentUncertaintyFactor,
+  studentTCdf,
+  studentTQuantile,
+  trapezoidExponentialBias,
   windowFromTimes,
+  ONE_SIGMA_LEVEL,
 } from '../src/fit.js';
 import { Random } from '../src/random.js';
 import { UsageError } from '../src/errors.js';
@@ -170,5 +179,150 @@ describe('window options', () => {
     expect(() => windowOptions({ fitFrom: '20ps' })).toThrow(UsageError);
     expect(() => parseSegments('1')).toThrow(UsageError);
     expect(() => parseSegments('2.5')).toThrow(UsageError);
+  });
+});
+
+describe('automatic window inside a segment', () => {
+  // Curve y = t² up to t_c, then 2 t_c t − t_c² (lags as time, Δt = 1): β = d ln y/d ln t =
+  // 2t/(2t − t_c) for t > t_c (closed form), within 1 ± 0.1 from t = 5.5 t_c on. With t_c = 20 the
+  // diffusive regime starts near lag 110. T = 1000 frames: a segment of M = 5 holds lags up to
+  // ⌊0.5·(200 − 1)⌋ = 99, of M = 4 up to ⌊0.5·(250 − 1)⌋ = 124 (arithmetic of the f_max rule).
+  const tc = 20;
+  const t = Float64Array.from({ length: 500 }, (_, i) => i);
+  const y = t.map((v) => (v <= tc ? v * v : 2 * tc * v - tc * tc));
+
+  it('searches only the lags a segment holds and reduces M until a window fits', () => {
+    const w = segmentedDiffusiveWindow(t, y, 1000, { segments: 5 });
+    // No diffusive lag below 99, so 5 segments cannot hold a window; 4 segments hold lags ≤ 124,
+    // and 110 … 124 is 15 ≥ 8 lags. The entry lag is 5.5·t_c = 110 up to the stencil half-width
+    // (lags t/1.25 … 1.25t): tolerance ±10 %.
+    expect(w.found).toBe(true);
+    expect(w.segments).toBe(4);
+    expect(w.segmentFrames).toBe(250);
+    expect(w.window.to).toBe(124);
+    expect(Math.abs(w.window.from - 5.5 * tc)).toBeLessThan(0.1 * 5.5 * tc);
+    expect(w.notes.join(' ')).toMatch(/4 segments instead of 5/);
+    // The whole-run search (the old rule) would have taken lags up to ⌊0.5·999⌋ = 499, a window
+    // no segment of 4 can evaluate.
+    expect(diffusiveWindow(t, y, 1000).to).toBe(499);
+  });
+
+  it('a run too short for any segment window gives no uncertainty', () => {
+    // T = 40: segments of 8, 10, 13 frames hold lags ≤ 3, 4, 6, fewer than the 8 a window needs.
+    const w = segmentedDiffusiveWindow(t, t, 40, { segments: 5 });
+    expect(w.ok).toBe(false);
+    expect(w.segments).toBe(0);
+    expect(w.notes.join(' ')).toMatch(/does not fit in 3 independent segments/);
+  });
+});
+
+describe('Student-t factor for few segments', () => {
+  it('the CDF equals the closed forms for 1 and 2 degrees of freedom', () => {
+    // Closed forms: ν = 1 (Cauchy) F = 1/2 + arctan(t)/π; ν = 2: F = 1/2 + t/(2√(2 + t²))
+    // (e.g. Johnson, Kotz & Balakrishnan, Continuous Univariate Distributions, vol. 2, ch. 28;
+    // from memory, checked by differentiating). Tolerance 1e-14: exact formulas, round-off only.
+    for (const x of [-3, -0.5, 0, 0.7, 1.3213, 5]) {
+      expect(Math.abs(studentTCdf(x, 1) - (0.5 + Math.atan(x) / Math.PI))).toBeLessThan(1e-14);
+      expect(Math.abs(studentTCdf(x, 2) - (0.5 + x / (2 * Math.sqrt(2 + x * x))))).toBeLessThan(1e-14);
+    }
+  });
+
+  it('quantiles match the published two-sided 95 % table and approach the normal', () => {
+    // Table of t_{0.975,ν} (NIST/SEMATECH e-Handbook of Statistical Methods, §1.3.6.7.2; from
+    // memory): 12.706, 4.303, 3.182, 2.776, 2.571, 2.228 for ν = 1, 2, 3, 4, 5, 10. Tolerance: the
+    // table's 3 decimals (5e-4).
+    const table: Array<[number, number]> = [[1, 12.706], [2, 4.303], [3, 3.182], [4, 2.776], [5, 2.571], [10, 2.228]];
+    for (const [nu, t] of table) expect(Math.abs(studentTQuantile(0.975, nu) - t)).toBeLessThan(5e-4);
+    // Φ(1) from simple-statistics' normal CDF (an independent implementation, tabulated to 4
+    // decimals: tolerance 1e-4); for ν → ∞ the t quantile at Φ(1) tends to z = 1: at ν = 2000 the
+    // leading correction (z³ + z)/(4ν) = 2.5e-4 (Cornish–Fisher expansion, from memory): tolerance 5e-4.
+    expect(Math.abs(cumulativeStdNormalProbability(1) - ONE_SIGMA_LEVEL)).toBeLessThan(1e-4);
+    expect(Math.abs(studentTQuantile(ONE_SIGMA_LEVEL, 2000) - 1)).toBeLessThan(5e-4);
+  });
+
+  it('segmentUncertaintyFactor is t_{0.8413, M−1} below 5 segments and 1 from 5 on', () => {
+    // ν = 2 closed-form quantile: u = 2p − 1, t = u·√(2/(1 − u²)) (inverse of the CDF above);
+    // ν = 1: t = tan(π(p − 1/2)). M = 3 → 1.3213, M = 2 → 1.8373. Tolerance 1e-10 (bisection).
+    const u = 2 * ONE_SIGMA_LEVEL - 1;
+    expect(Math.abs(segmentUncertaintyFactor(3) - u * Math.sqrt(2 / (1 - u * u)))).toBeLessThan(1e-10);
+    expect(Math.abs(segmentUncertaintyFactor(2) - Math.tan(Math.PI * (ONE_SIGMA_LEVEL - 0.5)))).toBeLessThan(1e-10);
+    expect(segmentUncertaintyFactor(5)).toBe(1);
+    expect(segmentUncertaintyFactor(4)).toBeGreaterThan(1);
+  });
+});
+
+describe('trapezoid rule on a coarsely sampled exponential', () => {
+  it('the trapezoid integral of e^{−t/τ} with step h is h(1/2 + e^{−h/τ}/(1 − e^{−h/τ})), i.e. τ·x coth x', () => {
+    // Closed form: the trapezoid sum over all steps is h(1/2 + Σ_{k≥1} r^k) = h(1/2 + r/(1 − r)),
+    // r = e^{−h/τ} (geometric series); the exact integral is τ. Summed to 80τ (remainder e^{−80}).
+    // Tolerance 1e-12 relative: round-off of the sum.
+    const tau = 0.07;
+    for (const h of [0.004, 0.05, 0.2, 0.4]) {
+      const r = Math.exp(-h / tau);
+      const n = Math.ceil((80 * tau) / h) + 1;
+      const c = Float64Array.from({ length: n }, (_, k) => Math.exp((-k * h) / tau));
+      const trap = cumulativeTrapezoid(c, h)[n - 1];
+      const closed = h * (0.5 + r / (1 - r));
+      expect(Math.abs(trap - closed) / closed).toBeLessThan(1e-12);
+      expect(Math.abs(trap / tau - 1 - trapezoidExponentialBias(r))).toBeLessThan(1e-12);
+    }
+  });
+
+  it('flags a correlation that loses more than half its value within one step', () => {
+    // Threshold r = C(h)/C(0) = 0.5: the bias there is x coth x − 1 with x = ln2/2, and
+    // coth(ln2/2) = (√2 + 1/√2)/(√2 − 1/√2) = 3 exactly, so the bias is 1.5 ln 2 − 1 = 0.0397
+    // (closed form). Tolerance 1e-14: round-off.
+    expect(Math.abs(trapezoidExponentialBias(0.5) - (1.5 * Math.LN2 - 1))).toBeLessThan(1e-14);
+    const exp = (h: number, tau: number) => Float64Array.from({ length: 50 }, (_, k) => Math.exp((-k * h) / tau));
+    // h/τ = 0.5 (r = 0.61) passes; h/τ = 2.86 (r = 0.057, the demo's stress would need h = 0.2 ps at
+    // τ = 0.07 ps) fails, and the message states the closed-form overestimate, 100·(x coth x − 1).
+    expect(correlationSamplingProblem(exp(0.035, 0.07), 0.035, 'C')).toBeNull();
+    const msg = correlationSamplingProblem(exp(0.2, 0.07), 0.2, 'C');
+    expect(msg).toMatch(/too coarsely sampled/);
+    const x = 0.2 / 0.07 / 2;
+    expect(msg).toContain(`${(100 * (x / Math.tanh(x) - 1)).toFixed(0)} % too large`);
+    // A correlation that changes sign within one step: flagged too.
+    expect(correlationSamplingProblem([1, -0.2, 0.05], 0.1, 'C')).toMatch(/too coarsely sampled/);
+  });
+});
+
+describe('drift after the plateau', () => {
+  // Running integrals on a grid of h = 0.01: I(t) = a(1 − e^{−t/τ₁}) + b·t with a = 1, τ₁ = 0.1
+  // (closed form of a decayed correlation plus a slow linear creep b). Segment curves add
+  // fixed offsets ε_k·√t·s, a deterministic stand-in for segment noise whose paired difference
+  // has a standard error computable by hand.
+  const h = 0.01;
+  const n = 2001;
+  const curve = (b: number) => Float64Array.from({ length: n }, (_, k) => 1 - Math.exp((-k * h) / 0.1) + b * k * h);
+  const eps = [-1.2, -0.4, 0, 0.5, 1.1];
+  const segs = (b: number, s: number) => eps.map((e) => curve(b).map((v, k) => v + e * s * Math.sqrt(k * h)));
+
+  it('a flat plateau passes; a creep larger than the segment uncertainty is flagged', () => {
+    const win = { from: 100, to: 200 };
+    // b = 0: the later mean differs from the plateau mean only by the decayed tail, < e^{−10}.
+    const flat = plateauDriftCheck(curve(0), segs(0, 0.002), win, 999, 0.02);
+    expect(flat.checked).toBe(true);
+    expect(flat.from).toBe(201);
+    expect(flat.to).toBe(600); // 3 × the plateau end, inside the cap 999
+    expect(flat.drifting).toBe(false);
+    // b = 0.01/ps: the later window (2.01–6 ps, mean 4.005 ps) lies above the plateau (1–2 ps,
+    // mean 1.5 ps) by b·2.505 = 0.02505 (closed form) plus the tail difference (< 1e-4) —
+    // above the 2 % tolerance of the plateau value ≈ 1.015, and far above t_{0.975,4}·SE
+    // (SE of the paired offsets ε_k·s·(⟨√t⟩_later − ⟨√t⟩_plateau) = SD(ε)·s·0.759/√5 ≈ 6e-4 with
+    // s = 0.002, SD(ε) = 0.875; hand arithmetic).
+    const creep = plateauDriftCheck(curve(0.01), segs(0.01, 0.002), win, 999, 0.02);
+    expect(Math.abs(creep.drift - 0.01 * 2.505)).toBeLessThan(1e-4);
+    expect(creep.drifting).toBe(true);
+    expect(creep.reason).toMatch(/running integral keeps drifting/);
+    // The same creep inside large segment scatter (s = 0.05: SE ≈ 0.015, t_{0.975,4}·SE ≈ 0.041) is not
+    // significant: no flag.
+    expect(plateauDriftCheck(curve(0.01), segs(0.01, 0.05), win, 999, 0.02).drifting).toBe(false);
+  });
+
+  it('a plateau at the end of the lags a segment holds cannot be checked', () => {
+    // Cap 203: only 3 later lags (< 5).
+    const r = plateauDriftCheck(curve(0), segs(0, 0.002), { from: 100, to: 200 }, 203, 0.02);
+    expect(r.checked).toBe(false);
+    expect(r.reason).toMatch(/cannot check/);
   });
 });

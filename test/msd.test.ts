@@ -7,6 +7,9 @@ import { describe, expect, it } from 'vitest';
 import type { Frame, PassContext, Residues, Topology } from '../src/types.js';
 import { Random, ornsteinUhlenbeck } from '../src/random.js';
 import { CellGeometry, orthorhombicCell } from '../src/cell.js';
+import { sampleStandardDeviation } from 'simple-statistics';
+import { UsageError } from '../src/errors.js';
+import { msdOptionsFrom } from '../src/commands/msd.js';
 import {
   addSelfTerm,
   directMsdOfSeries,
@@ -266,6 +269,45 @@ describe('Yeh–Hummer correction in the MSD result', () => {
     const r = runMsd({ viscosity: 0.89e-3, temperature: 300, nonGaussian: false }, topo, walks, cell, dt);
     const g = r.groups[0];
     expect(relDiff(g.diffusionCorrected!.value - g.diffusion.value, 2.33505e-10)).toBeLessThan(1e-5);
+  });
+});
+
+describe('Yeh–Hummer correction and in-plane diffusion', () => {
+  it('refuses the 3-D periodic correction for --plane (usage error), in the analysis and the options', () => {
+    // Truth: the correction k_B T ξ/(6πηL) is derived for 3-D diffusion in a cubic periodic cell
+    // (Yeh & Hummer, J. Phys. Chem. B 108, 15873 (2004)); in-plane diffusion in a slab has a
+    // different, geometry-dependent correction (e.g. Simonnin et al., J. Chem. Theory Comput. 13,
+    // 2881 (2017); from memory), so applying it there would be a wrong number.
+    const n = 10, frames = 100, dt = 0.01;
+    const walks = randomWalks(n, frames, 0.1, 6);
+    const cell = orthorhombicCell(30, 30, 30);
+    const topo = topology(Array.from({ length: n }, () => 'A'));
+    expect(() => runMsd({ plane: 'xy', viscosity: 0.89e-3, temperature: 300, nonGaussian: false }, topo, walks, cell, dt)).toThrow(UsageError);
+    expect(() => msdOptionsFrom({ plane: 'xy', viscosity: '0.89mPa.s', temperature: '300K' })).toThrow(/--plane/);
+    // Without the plane the same inputs are accepted.
+    expect(runMsd({ viscosity: 0.89e-3, temperature: 300, nonGaussian: false }, topo, walks, cell, dt).yehHummer).not.toBeNull();
+  });
+});
+
+describe('few segments: Student-t widening', () => {
+  it('with M = 3 segments the uncertainty is SD/√3 of the segment values times t(0.8413, 2)', () => {
+    // Truth: the standard error over M independent values is s/√M (Frenkel & Smit §4.4.1; s from
+    // simple-statistics' sampleStandardDeviation); for M − 1 = 2 degrees of freedom the one-sigma
+    // (68.27 %) Student-t quantile has the closed form u·√(2/(1 − u²)), u = 2Φ(1) − 1 = 0.682689
+    // (Student 1908; the ν = 2 CDF 1/2 + t/(2√(2 + t²)) inverted): 1.3213. Tolerance 1e-9 relative.
+    const n = 20, frames = 600, dt = 0.01;
+    const walks = randomWalks(n, frames, 0.1, 77);
+    const topo = topology(Array.from({ length: n }, () => 'A'));
+    const r = runMsd({ segments: 3, nonGaussian: false }, topo, walks, null, dt);
+    const g = r.groups[0];
+    expect(g.segments).toBe(3);
+    const u = 0.6826894921370859;
+    const t = u * Math.sqrt(2 / (1 - u * u));
+    const se = sampleStandardDeviation(g.segmentDiffusion) / Math.sqrt(3);
+    expect(relDiff(g.diffusion.uncertainty!, se * t)).toBeLessThan(1e-9);
+    expect(g.notes.join(' ')).toMatch(/only 3 independent segments/);
+    // The rule text names the count actually used.
+    expect(r.rules.uncertainty).toMatch(/M = 3 independent segments/);
   });
 });
 

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import {
   structureFactor, lorchWindow, sincShellPrimitive, lorchShellPrimitive, parseLennardJones, ljPotential,
   lennardJonesEnergy, lennardJonesPressure, ljEnergyTail, ljPressureTail, kirkwoodBuffRunning,
-  kirkwoodBuffFiniteSize, sphereOverlapWeight, KJ_PER_MOL_A3_TO_PA,
+  kirkwoodBuffFiniteVolume, kirkwoodBuffExtrapolation, sphereOverlapWeight, structureFactorGrid, KJ_PER_MOL_A3_TO_PA,
 } from '../analyses/structure.js';
 import { rdfPass, shellVolumes } from '../analyses/rdf.js';
 import { orthorhombicCell } from '../src/cell.js';
@@ -63,6 +63,19 @@ describe('structure factor', () => {
     });
   });
 
+  it('the q grid starts at 2π/r_max, on multiples of the q step', () => {
+    // A transform of g cut at R resolves q no finer than 2π/R (Fourier resolution; Lorch, J. Phys.
+    // C 2, 229 (1969)): the grid must not go below it. Arithmetic: 2π/10.9 = 0.57644; the first
+    // multiple of 0.05 at or above it is 0.60 (k = 12); up to 20 → 389 points.
+    const { q, qMin } = structureFactorGrid(20, 0.05, 10.9);
+    expect(Math.abs(qMin - (2 * Math.PI) / 10.9)).toBeLessThan(1e-15);
+    expect(q[0]).toBeCloseTo(0.6, 12);
+    expect(q.length).toBe(389);
+    expect(q[q.length - 1]).toBeCloseTo(20, 12);
+    // A range entirely below 2π/r_max gives no points.
+    expect(structureFactorGrid(0.5, 0.05, 10.9).q.length).toBe(0);
+  });
+
   it('ideal gas: S(q) = 1 within the propagated binomial noise of g', () => {
     // g_k − 1 has SD √((1 − p_k)/(M p_k)) (binomial, pairwise-independent distances of uniform
     // points; M = F·N(N−1)/2 trials, p_k = V_k/V), and S(q) − 1 = 4πρ Σ_k (g_k − 1) I_k(q) with
@@ -72,7 +85,10 @@ describe('structure factor', () => {
     const n = 300, L = 18, F = 30;
     const topo = topology(n);
     const cell = orthorhombicCell(L, L, L);
-    const pass = rdfPass({ pairs: [{ a: 'all', b: 'all' }], rMax: null, binWidth: 0.05, skipSameMolecule: false, blocks: null });
+    const pass = rdfPass({
+      pairs: [{ a: 'all', b: 'all' }], rMax: null, binWidth: 0.05, skipSameMolecule: false, blocks: null,
+      structureFactor: { qMax: 20, qStep: 0.2, window: 'lorch' }, kirkwoodBuff: true,
+    });
     const ctx = { topology: topo, firstCell: cell, frameInterval: null, warnings: [] as string[] };
     const acc = pass.create(ctx);
     for (let f = 0; f < F; f++) {
@@ -83,6 +99,19 @@ describe('structure factor', () => {
     }
     const res = pass.finish(acc.partial(), ctx).pairs[0];
     const bw = 0.05, nb = res.g.length, R = nb * bw, rho = res.density.value;
+    // The pass's own S(q) (with --structure-factor) starts at 2π/r_max = 2π/9 = 0.698 1/Å: first
+    // multiple of 0.2 at or above it is 0.8 (arithmetic).
+    expect(R).toBeCloseTo(9, 9);
+    const sq = res.structureFactor!;
+    expect(sq.q[0]).toBeCloseTo(0.8, 12);
+    expect(sq.qMin.value).toBeCloseTo((2 * Math.PI) / 9, 12);
+    // Ideal gas: g = 1 in expectation (pairs normalised by N(N − 1)), so every Kirkwood–Buff
+    // integral is 0 (closed form); the extrapolated G∞ must lie within 4 of its stated
+    // uncertainties (block standard error with the fit error), over the stated range 4.5–9 Å.
+    const kb = res.kirkwoodBuff!;
+    expect(kb.extrapolation.from.value).toBeCloseTo(4.5, 9);
+    expect(kb.infinite.uncertainty).not.toBeNull();
+    expect(Math.abs(kb.infinite.value)).toBeLessThan(4 * kb.infinite.uncertainty!);
     const q = Float64Array.from({ length: 100 }, (_, i) => 0.2 * (i + 1));
     const s = structureFactor(res.g, bw, rho, q, 'lorch');
     const M = (F * n * (n - 1)) / 2;
@@ -213,12 +242,35 @@ describe('Kirkwood–Buff integrals', () => {
   it('finite-volume integral of a step g(r): −4π[r0³/3 − 3r0⁴/(8L) + r0⁶/(12L³)]', () => {
     // Krüger et al. (2013) weight integrated in closed form over [0, r0]; L = upper bin edge. 1e-9 Å³.
     const bw = 0.05, r0 = 3;
-    const G = kirkwoodBuffFiniteSize(stepG(200, bw, r0), bw);
+    const G = kirkwoodBuffFiniteVolume(stepG(200, bw, r0), bw);
     for (let k = 60; k < 200; k++) {
       const L = (k + 1) * bw;
       const exact = -4 * Math.PI * (r0 ** 3 / 3 - (3 * r0 ** 4) / (8 * L) + r0 ** 6 / (12 * L ** 3));
       expect(Math.abs(G[k] - exact)).toBeLessThan(1e-9);
     }
+  });
+
+  it('the 1/L extrapolation of the finite-volume integrals recovers the infinite-system G of a step g(r)', () => {
+    // Closed form for g = 0 below σ, 1 beyond (excluded volume): G∞ = −4πσ³/3, and the
+    // finite-volume integral above gives L·G_V(L) = L·G∞ + 3πσ⁴/2 − πσ⁶/(3L²): linear in L (the
+    // scaling of Krüger et al., J. Phys. Chem. Lett. 4, 235 (2013)) up to f(L) = −c/L², c = πσ⁶/3.
+    // The least-squares slope is a weighted mean of secant slopes, each f'(ξ) + G∞ for some ξ in
+    // the range (mean-value theorem), so |slope − G∞| ≤ max f' = 2c/L_min³ (0.45 Å³ for σ = 3 Å,
+    // L_min = 15 Å). The intercept F = 3πσ⁴/2 is off by at most max|f| + 0.45·L_max.
+    const bw = 0.05, sigma = 3, nb = 600; // r_max = 30 Å, range 15–30 Å
+    const g = stepG(nb, bw, sigma);
+    const ex = kirkwoodBuffExtrapolation(g, bw);
+    const gInf = (-4 * Math.PI * sigma ** 3) / 3;
+    const c = (Math.PI * sigma ** 6) / 3;
+    expect(ex.from).toBeCloseTo(15, 9);
+    expect(ex.to).toBeCloseTo(30, 9);
+    const bound = (2 * c) / ex.from ** 3;
+    expect(Math.abs(ex.infinite - gInf)).toBeLessThan(bound);
+    expect(Math.abs(ex.surface - 1.5 * Math.PI * sigma ** 4)).toBeLessThan(c / ex.from ** 2 + bound * ex.to);
+    // The finite-volume value at r_max is not the infinite-system one: it misses F/L ≈ 12.7 Å³,
+    // far more than the extrapolation's bound.
+    const gv = kirkwoodBuffFiniteVolume(g, bw);
+    expect(Math.abs(gv[nb - 1] - gInf)).toBeGreaterThan(20 * bound);
   });
 
   it('the weight w(x) is the overlap of two spheres of diameter L at distance xL', () => {

@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import type { Frame, PassContext, Topology } from '../src/types.js';
 import { ornsteinUhlenbeck } from '../src/random.js';
 import { cumulativeTrapezoid, plateauWindow, windowMean } from '../src/fit.js';
-import { cosineSpectrum, vacfPass, WAVENUMBER_PER_THZ, type VacfPassOptions, type VacfResult } from '../analyses/vacf.js';
+import { cosineSpectrum, plateauWithSegments, vacfPass, WAVENUMBER_PER_THZ, type VacfPassOptions, type VacfResult } from '../analyses/vacf.js';
 import { mergeStores, type StorePartial } from '../analyses/msd.js';
 
 const relDiff = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
@@ -206,5 +206,74 @@ describe('a correlation that never decays', () => {
     expect(g.plateau.found).toBe(false);
     expect(g.converged).toBe(false);
     expect(g.notes.join(' ')).toMatch(/no plateau/);
+  });
+});
+
+describe('a VACF sampled too coarsely for the trapezoid rule', () => {
+  it('OU velocities every 2/γ: D comes out (γΔt/2)·coth(γΔt/2) too large, and is flagged', () => {
+    // Truth (Uhlenbeck & Ornstein 1930): sampled every Δt the VACF is exactly 3σ_v² r^k with
+    // r = e^{−γΔt}; its trapezoid integral is Δt(1/2 + r/(1 − r))·3σ_v² (geometric series), i.e.
+    // the exact D = σ_v²/γ times x·coth x with x = γΔt/2 = 1: 1.3130 (closed form). Tolerance: the
+    // statistical SD of the running integral √(4t_b/(3·N·T_run)) (as in the OU test above) at the
+    // plateau end t_b, 4 SD, plus the plateau rule's 2 %.
+    const n = 128, frames = 4000, dt = 0.2, gamma = 10, sv = 2;
+    const { vel, pos } = ouSystem(n, frames, dt, gamma, sv, 9100);
+    const topo = topology(n);
+    const r = vacfPass({ keepDrift: true }).finish(partial({ keepDrift: true }, topo, pos, vel, dt), context(topo, dt));
+    const g = r.groups[0];
+    const Dtrue = (sv * sv) / gamma * 1e-8;
+    const x = (gamma * dt) / 2;
+    const biased = Dtrue * x / Math.tanh(x);
+    const tol = 0.02 + 4 * Math.sqrt((4 * g.plateau.to) / (3 * n * frames * dt));
+    expect(relDiff(g.diffusion.value, biased)).toBeLessThan(tol);
+    expect(relDiff(g.diffusion.value, Dtrue)).toBeGreaterThan(0.2); // the bias the segments cannot see
+    // C(Δt)/C(0) = e^{−2} = 0.135 < 0.5: not converged, with the reason.
+    expect(Math.abs(g.normalized[1] - Math.exp(-gamma * dt))).toBeLessThan(0.01);
+    expect(g.samplingOk).toBe(false);
+    expect(g.converged).toBe(false);
+    expect(g.notes.join(' ')).toMatch(/too coarsely sampled/);
+  });
+});
+
+describe('plateau checked against later lags', () => {
+  // Running integral of a two-exponential correlation, closed form
+  //   I(t) = a₁τ₁(1 − e^{−t/τ₁}) + a₂τ₂(1 − e^{−t/τ₂}),
+  // with a small, slow second relaxation: over one plateau span it changes by less than the 2 %
+  // tolerance (so the plateau rule accepts an early window), but it keeps rising afterwards.
+  // Segments: the same curve plus fixed offsets ε_k·s·√t (deterministic stand-in for noise).
+  const h = 0.01, samples = 20000;
+  const maxLag = 1999; // ⌊0.5·(4000 − 1)⌋ for 5 segments of 4000 samples
+  const I = (a2: number) => (k: number) => 0.4 * (1 - Math.exp((-k * h) / 0.1)) + a2 * 20 * (1 - Math.exp((-k * h) / 20));
+  const eps = [-1.2, -0.4, 0, 0.5, 1.1];
+  const run = (a2: number, s: number) => {
+    const full = Float64Array.from({ length: maxLag + 1 }, (_, k) => I(a2)(k));
+    return plateauWithSegments(full, samples, { plateauSpan: 0.05 }, (start, count, lag) => {
+      const e = eps[Math.round(start / count)];
+      return Float64Array.from({ length: lag + 1 }, (_, k) => I(a2)(k) + e * s * Math.sqrt(k * h));
+    });
+  };
+
+  it('a decayed correlation passes; a slow tail is caught as "running integral keeps drifting"', () => {
+    // a₂ = 0: nothing changes after the plateau (closed form), converged.
+    const flat = run(0, 0.001);
+    expect(flat.found).toBe(true);
+    expect(flat.drift.checked).toBe(true);
+    expect(flat.converged).toBe(true);
+    // a₂ = 0.006 per ps²: over a 1 ps span the slow part grows by ≤ 0.006·1 = 0.006, 1.5 % of 0.4 —
+    // inside the 2 % tolerance, so a plateau is found; up to 3× its end the integral rises by
+    // a₂·20·[e^{−t_p/20} − e^{−t_l/20}] averaged, several % of 0.4 (closed form, evaluated below),
+    // far beyond the segment scatter (s = 0.001 → SE ≈ 3e-4).
+    const tail = run(0.006, 0.001);
+    expect(tail.found).toBe(true);
+    const w = tail.window;
+    const d = tail.drift;
+    let later = 0, plat = 0;
+    for (let k = d.from; k <= d.to; k++) later += I(0.006)(k) / (d.to - d.from + 1);
+    for (let k = w.from; k <= w.to; k++) plat += I(0.006)(k) / (w.to - w.from + 1);
+    expect(Math.abs(d.drift - (later - plat))).toBeLessThan(1e-12);
+    expect((later - plat) / tail.value).toBeGreaterThan(0.02);
+    expect(d.drifting).toBe(true);
+    expect(tail.converged).toBe(false);
+    expect(tail.notes.join(' ')).toMatch(/running integral keeps drifting/);
   });
 });

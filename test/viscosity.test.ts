@@ -10,7 +10,9 @@ import {
   defaultSegmentCount,
   doubleExponential,
   doubleExponentialLimit,
+  doubleExponentialProblem,
   fitDoubleExponential,
+  fitSingleExponential,
   fitPowerLaw,
   greenKuboPrefactor,
   helfandMsd,
@@ -119,6 +121,25 @@ describe('Green–Kubo viscosity of Ornstein–Uhlenbeck stress (closed form η 
     expect(r.helfandWindow!.to).toBeGreaterThan(r.helfandWindow!.from);
   });
 
+  it('stress sampled too coarsely for the trapezoid rule is flagged', () => {
+    // OU stress with τ = 50 fs sampled every 100 fs: C(Δt)/C(0) = e^{−2} = 0.135 < 0.5, so the
+    // trapezoid integral overestimates η by x coth x − 1 = 31 % (x = Δt/(2τ) = 1; closed form of
+    // the geometric series): the result must be flagged not converged with that reason. The
+    // stated overestimate uses the measured ratio, whose SD is ≈ √((1 − r²)/n) = 0.005 for
+    // n = 2·20 000 samples (Bartlett 1946, lag 1; from memory): 4 SD → r in 0.115–0.155, i.e. a
+    // stated bias between 28 % and 35 % (closed form at those r).
+    const n = 20_000;
+    const cols = { xy: ornsteinUhlenbeck(n, 0.1, TAU, SIGMA_BAR, 21), xz: ornsteinUhlenbeck(n, 0.1, TAU, SIGMA_BAR, 22) };
+    const { result: r } = analyseViscosity({ components: shearComponents(cols), dt: 0.1, volumeA3: V, temperatureK: T, pascalPerUnit: 1e5 });
+    expect(r.converged).toBe(false);
+    const text = r.reasons.join(' ');
+    expect(text).toMatch(/too coarsely sampled/);
+    const stated = Number(/come out (\d+) % too large/.exec(text)![1]);
+    const bias = (rr: number) => { const x = -Math.log(rr) / 2; return 100 * (x / Math.tanh(x) - 1); };
+    expect(stated).toBeGreaterThanOrEqual(Math.floor(bias(0.155)));
+    expect(stated).toBeLessThanOrEqual(Math.ceil(bias(0.115)));
+  });
+
   it('a correlation that never decays within the run is flagged, not reported bare', () => {
     // τ = 20 ps in a 200 ps run: 10 segments of 20 ps cannot hold a decayed correlation
     // (segments must be ≫ τ; common practice, no source).
@@ -204,6 +225,44 @@ describe('Levenberg–Marquardt and the double-exponential fit', () => {
     // Tolerance: exact data; 1e-5 as above.
     expect(rel(f.limit, 3)).toBeLessThan(1e-5);
     expect(f.converged).toBe(true);
+  });
+
+  it('a slow time beyond t_max/3 ends on the bound and is reported, not trusted', () => {
+    // Data: the Zhang–Otani–Maginn form with A = 2, α = 0.8, τ₁ = 0.1, τ₂ = 8 on t ∈ (0, 6]:
+    // τ₂ exceeds the bound t_max/3 = 2 (closed form of the generating parameters), so the fit
+    // cannot reach it and τ₂ must end on the bound (within 1 %).
+    const t = Array.from({ length: 300 }, (_, i) => (i + 1) * 0.02);
+    const y = t.map((x) => doubleExponential(x, { A: 2, alpha: 0.8, tau1: 0.1, tau2: 8 }));
+    const f = fitDoubleExponential(t, y, t.map((x) => 1 / Math.sqrt(x)));
+    expect(f.tauBounds.upper).toBeCloseTo(2, 12);
+    expect(f.tau2).toBeGreaterThan(0.99 * 2);
+    expect(doubleExponentialProblem(f)).toMatch(/upper bound/);
+  });
+
+  it('a negative slow amplitude (α > 1) is reported', () => {
+    // Data: A = 2, α = 1.2, τ₁ = 0.1, τ₂ = 0.8 on (0, 6] (τ₂ well inside the bound 2): the slow
+    // amplitude A(1 − α)τ₂ = −0.32 < 0 (closed form); exact data are fitted exactly (1e-5), and the
+    // check names α outside [0, 1]. A well-posed fit (α = 0.7, τ₂ = 1.5 < 2) passes it.
+    const t = Array.from({ length: 300 }, (_, i) => (i + 1) * 0.02);
+    const w = t.map((x) => 1 / Math.sqrt(x));
+    const f = fitDoubleExponential(t, t.map((x) => doubleExponential(x, { A: 2, alpha: 1.2, tau1: 0.1, tau2: 0.8 })), w);
+    expect(rel(f.alpha, 1.2)).toBeLessThan(1e-5);
+    expect(doubleExponentialProblem(f)).toMatch(/outside \[0, 1\]/);
+    const ok = fitDoubleExponential(t, t.map((x) => doubleExponential(x, { A: 2, alpha: 0.7, tau1: 0.1, tau2: 1.5 })), w);
+    expect(doubleExponentialProblem(ok)).toBeNull();
+  });
+
+  it('the single-exponential fallback recovers a(1 − e^{−t/τ}) exactly', () => {
+    // y = 0.3 (1 − e^{−t/0.07}) on t ∈ (0, 3]: limit 0.3, τ = 0.07, initial slope 0.3/0.07 (the α = 1
+    // case of Zhang, Otani & Maginn 2015). Exact data: the profiled minimum is exact; tolerance
+    // 1e-6 (golden-section stop at 1e-12 in ln τ, flat cost near the minimum).
+    const t = Array.from({ length: 750 }, (_, i) => (i + 1) * 0.004);
+    const f = fitSingleExponential(t, t.map((x) => 0.3 * -Math.expm1(-x / 0.07)), t.map((x) => x ** -0.56));
+    expect(f.converged).toBe(true);
+    expect(rel(f.limit, 0.3)).toBeLessThan(1e-6);
+    expect(rel(f.tau1, 0.07)).toBeLessThan(1e-6);
+    expect(rel(f.A, 0.3 / 0.07)).toBeLessThan(1e-6);
+    expect(rel(doubleExponentialLimit(f), 0.3)).toBeLessThan(1e-6);
   });
 
   it('power law σ = A t^b from exact data', () => {

@@ -22,6 +22,7 @@ import { planSiteBatches } from './batching.js';
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
+import { parseSelection } from '../selection.js';
 import { formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
 import type { Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
@@ -33,6 +34,7 @@ interface ConductivityCliOptions extends TrajectoryOptions, WindowCliOptions, Pl
   molecules?: boolean;
   keepDrift?: boolean;
   greenKubo?: boolean;
+  ions?: string;
   csv?: string;
 }
 
@@ -53,7 +55,11 @@ export function renderConductivity(file: string, r: ConductivityResult): string 
       [
         ['σ Nernst–Einstein (ions independent)', mScm(r.nernstEinstein), 'species MSD D (below)'],
         ['σ Einstein–Helfand (collective)', mScm(r.einsteinHelfand), `slope over ${formatSig(r.fit.from, 4)}–${formatSig(r.fit.to, 4)} ps${r.fit.automatic ? '' : ' (user)'}`],
-        ['σ Green–Kubo (collective)', mScm(r.greenKubo), gk ? `plateau ${formatSig(gk.from, 4)}–${formatSig(gk.to, 4)} ps${gk.found ? '' : ' (no plateau)'}` : 'no velocities in the file'],
+        [
+          'σ Green–Kubo (collective)',
+          mScm(r.greenKubo) + (r.greenKuboConverged === false ? ' *' : ''),
+          gk ? `plateau ${formatSig(gk.from, 4)}–${formatSig(gk.to, 4)} ps${gk.found ? '' : ' (no plateau)'}` : 'no velocities in the file',
+        ],
         ['ionicity σ_EH/σ_NE', formatQuantity(r.ionicity), ''],
         ['Haven ratio σ_NE/σ_EH', formatQuantity(r.havenRatio), ''],
         ['molar conductivity Λ = σ_EH/c', formatQuantity(r.molarConductivity, 1e4, 'S cm²/mol'), r.concentration ? `c = ${formatSig(r.concentration.value, 4)} mol/L (cations)` : ''],
@@ -61,16 +67,20 @@ export function renderConductivity(file: string, r: ConductivityResult): string 
       ],
     ),
   );
+  if (r.greenKuboConverged === false) out.push('* Green–Kubo value not converged: see the notes below');
   out.push('');
+  const rows = [...r.species, ...r.otherCharged];
   out.push(
     formatTable(
-      ['species', 'count', 'charge (e)', 'D (10⁻⁹ m²/s)', 'fit window (ps)', 'status'],
-      r.species.map((s) => [
+      ['species', 'count', 'charge (e)', 'role', 'D (10⁻⁹ m²/s)', 'fit window (ps)', 'segments', 'status'],
+      rows.map((s) => [
         s.label,
         String(s.count),
         formatSig(s.charge, 4),
+        s.ion ? 'ion' : 'current only',
         dTable(s.diffusion),
         `${formatSig(s.fit.from, 4)}–${formatSig(s.fit.to, 4)}`,
+        s.segments > 0 ? String(s.segments) : '—',
         s.converged ? 'ok' : 'NOT CONVERGED',
       ]),
     ),
@@ -83,7 +93,7 @@ export function renderConductivity(file: string, r: ConductivityResult): string 
   out.push(`drift: ${r.driftNote}`);
   if (r.memoryNote) out.push(`memory: ${r.memoryNote}`);
   for (const n of r.notes) out.push(`note: ${n}`);
-  for (const s of r.species) for (const n of s.notes) out.push(`${s.label}: ${n}`);
+  for (const s of rows) for (const n of s.notes) out.push(`${s.label}: ${n}`);
   out.push('');
   out.push(CAUTION);
   return out.join('\n');
@@ -110,6 +120,10 @@ export function register(program: Command): void {
     .option('--molecules', 'molecular ions: follow molecule (residue) centres of mass, charge = sum of atom charges')
     .option('--keep-drift', 'do not remove the centre-of-mass drift (removed by default)')
     .option('--no-green-kubo', 'skip the Green–Kubo value (and do not hold velocities in memory)')
+    .option(
+      '--ions <sel>',
+      'atoms to count as ions in the Nernst–Einstein sum and the concentration (default: single atoms or, with --molecules, molecules with a non-zero whole charge; give it for scaled charges such as ±0.8)',
+    )
     .option('--csv <file>', 'write the collective MSD and running Green–Kubo conductivity to this CSV file');
   addWindowOptions(cmd);
   addPlateauOptions(cmd, false);
@@ -131,7 +145,9 @@ export function register(program: Command): void {
       molecules: opts.molecules,
       keepDrift: opts.keepDrift,
       greenKubo: opts.greenKubo !== false,
+      ions: opts.ions ?? null,
     };
+    if (opts.ions !== undefined) parseSelection(opts.ions);
     const layoutSpec = conductivityLayout(copts);
     // One read holds positions (+ velocities for Green–Kubo) of every ion; batched reads hold
     // positions only, the collective sums Σq r and Σq v being kept per frame by the first read.

@@ -16,6 +16,7 @@ import {
   speciesLayout,
   storePass,
   storeBytes,
+  YEH_HUMMER_PLANE_ERROR,
   type GroupSums,
   type MsdOptions,
   type MsdPlan,
@@ -195,13 +196,14 @@ interface MsdCliOptions extends TrajectoryOptions, SiteCliOptions, WindowCliOpti
 export function renderMsd(file: string, r: MsdResult): string {
   const out: string[] = [];
   out.push(`${file}: mean-squared displacement, ${r.frames} frames every ${formatSig(r.frameInterval, 6)} ps, d = ${r.dimensions}${r.plane ? ` (plane ${r.plane})` : ''}${r.molecules ? ', molecule centres of mass' : ''}`);
-  const headers = ['group', 'sites', 'D (10⁻⁹ m²/s)', ...(r.yehHummer ? ['D∞ (10⁻⁹ m²/s)'] : []), 'fit window (ps)', 'status'];
+  const headers = ['group', 'sites', 'D (10⁻⁹ m²/s)', ...(r.yehHummer ? ['D∞ (10⁻⁹ m²/s)'] : []), 'fit window (ps)', 'segments', 'status'];
   const rows = r.groups.map((g) => [
     g.label,
     String(g.count),
     dTable(g.diffusion),
     ...(r.yehHummer ? [dTable(g.diffusionCorrected)] : []),
     `${formatSig(g.fit.from, 4)}–${formatSig(g.fit.to, 4)}${g.fit.automatic ? '' : ' (user)'}`,
+    g.segments > 0 ? String(g.segments) : '—',
     g.converged ? 'ok' : 'NOT CONVERGED',
   ]);
   out.push(formatTable(headers, rows));
@@ -243,6 +245,7 @@ export function msdOptionsFrom(opts: MsdCliOptions): MsdOptions {
   }
   if (viscosity !== undefined && !(viscosity > 0)) throw new UsageError('--viscosity must be positive');
   if (temperature !== undefined && !(temperature > 0)) throw new UsageError('--temperature must be positive');
+  if (viscosity !== undefined && opts.plane !== undefined) throw new UsageError(YEH_HUMMER_PLANE_ERROR);
   return { ...windowOptions(opts), plane: opts.plane, viscosity, temperature, nonGaussian: opts.alpha2 !== false };
 }
 

@@ -115,7 +115,13 @@ export function renderRdf(file: string, r: RdfResult): string {
       const s = p.structureFactor;
       let k = 0;
       for (let i = 1; i < s.s.length; i++) if (s.s[i] > s.s[k]) k = i;
-      extra.push(['S(q) main peak', `q = ${formatSig(s.q[k], 4)} 1/Å, S = ${formatSig(s.s[k], 4)}${s.sError[k] !== null ? ' ± ' + formatSig(s.sError[k]!, 2) : ''} (window: ${s.window.split(' ')[0]})`]);
+      extra.push([
+        'S(q) main peak',
+        s.s.length
+          ? `q = ${formatSig(s.q[k], 4)} 1/Å, S = ${formatSig(s.s[k], 4)}${s.sError[k] !== null ? ' ± ' + formatSig(s.sError[k]!, 2) : ''} (window: ${s.window.split(' ')[0]})`
+          : '— (no q at or above 2π/r-max)',
+      ]);
+      extra.push(['S(q) from', `q ≥ 2π/r-max = ${formatSig(s.qMin.value, 4)} 1/Å (below it S(q) is set by the truncation of g(r))`]);
     }
     if (p.lennardJones) {
       const lj = p.lennardJones;
@@ -128,8 +134,14 @@ export function renderRdf(file: string, r: RdfResult): string {
     if (p.kirkwoodBuff) {
       const kb = p.kirkwoodBuff;
       const toCm3 = AVOGADRO * 1e-24; // Å³ per pair → cm³/mol
-      extra.push(['KB G(R = r-max)', `${formatQuantity(kb.runningAtRMax)} = ${formatQuantity(kb.runningAtRMax, toCm3, 'cm^3/mol')}`]);
-      extra.push(['KB finite-volume G(L = r-max)', `${formatQuantity(kb.finiteSizeAtRMax)} = ${formatQuantity(kb.finiteSizeAtRMax, toCm3, 'cm^3/mol')}`]);
+      const ex = kb.extrapolation;
+      extra.push(['KB running G(R = r-max)', `${formatQuantity(kb.runningAtRMax)} = ${formatQuantity(kb.runningAtRMax, toCm3, 'cm^3/mol')}`]);
+      extra.push(['KB finite volume G_V(L = r-max)', `${formatQuantity(kb.finiteVolumeAtRMax)} = ${formatQuantity(kb.finiteVolumeAtRMax, toCm3, 'cm^3/mol')}`]);
+      extra.push([
+        'KB infinite system G∞',
+        `${formatQuantity(kb.infinite)} = ${formatQuantity(kb.infinite, toCm3, 'cm^3/mol')} ` +
+          `(L·G_V = L·G∞ + F over L = ${formatSig(ex.from.value, 4)}–${formatSig(ex.to.value, 4)} Å; fit ± ${formatSig(ex.fitError.value, 2)}, blocks ± ${ex.blockError ? formatSig(ex.blockError.value, 2) : '—'} Å³)`,
+      ]);
     }
     if (extra.length) out.push(`\n${p.a} : ${p.b}\n${formatTable(['quantity', 'value'], extra)}`);
   }
@@ -154,7 +166,7 @@ export async function writeRdfCsv(prefix: string, r: RdfResult, inputs: string[]
     }
     if (p.kirkwoodBuff) {
       const k = p.kirkwoodBuff;
-      files.push([`${base}-kb.csv`, toCsv(['R_A', 'G_running_A3', 'G_finite_volume_A3'], [k.r, k.running, k.finiteSize])]);
+      files.push([`${base}-kb.csv`, toCsv(['R_A', 'G_running_A3', 'G_finite_volume_A3'], [k.r, k.running, k.finiteVolume])]);
     }
     for (const [name, text] of files) {
       refuseOverwritingInputs(name, inputs);
@@ -181,13 +193,13 @@ export function register(program: Command): void {
     .option('--blocks <n>', 'number of time blocks for the error bars (default: from the statistical inefficiency)')
     .option('--csv <prefix>', 'write PREFIX-A-B.csv (r, g, n, g_error) per pair')
     .addOption(new Option('--search <method>', 'neighbour search').choices(['auto', 'cells', 'brute']).default('auto'))
-    .option('--structure-factor', 'also compute S(q) by Fourier transform of g(r)')
+    .option('--structure-factor', 'also compute S(q) by Fourier transform of g(r), from q = 2π/r-max up (below it S(q) is set by the truncation of g)')
     .option('--q-max <1/A>', 'largest q of S(q)', '20')
     .option('--q-step <1/A>', 'q spacing of S(q)', '0.05')
     .addOption(new Option('--sq-window <name>', 'window on g(r) − 1 before the transform').choices(['lorch', 'none']).default('lorch'))
     .option('--lj <eps,sigma[,cutoff]>', 'Lennard-Jones 12-6 parameters for the energy and pressure routes, e.g. 0.996kJ/mol,3.405A,8.5A (eps in kJ/mol, kcal/mol, K or eV)')
     .option('--temperature <T>', 'temperature for the virial pressure, e.g. 120K')
-    .option('--kirkwood-buff', 'also compute running and finite-volume Kirkwood–Buff integrals');
+    .option('--kirkwood-buff', 'also compute running and finite-volume Kirkwood–Buff integrals and the infinite-system value extrapolated in 1/L');
   addTrajectoryOptions(cmd).action(async (file: string, opts: RdfOptions) => {
     const warnings: string[] = [];
     const spec = rdfSpecFromOptions(opts);

@@ -111,7 +111,12 @@ export function renderViscosity(file: string, r: ViscosityResult, volumeA3: numb
       [
         ['viscosity (Green–Kubo)', `${mPas(r.viscosity)}${status}`],
         ['fit window', `${formatSig(r.fitWindow.from, 3)}–${formatSig(r.fitWindow.to, 4)} ps (cut-off where σ(t) > ${Math.round(r.cutoffFraction * 100)} % of η(t)${r.cutoffReached ? '' : '; not reached'})`],
-        ['fit', `A = ${formatSig(r.fit.A.value * 1e3, 4)} mPa·s/ps, α = ${formatSig(r.fit.alpha, 4)}, τ₁ = ${formatSig(r.fit.tau1.value, 4)} ps, τ₂ = ${formatSig(r.fit.tau2.value, 4)} ps, weight 1/t^${formatSig(r.fit.b, 3)}`],
+        [
+          'fit',
+          r.fit.model === 'single exponential'
+            ? `single exponential (double rejected, see the notes): A = ${formatSig(r.fit.A.value * 1e3, 4)} mPa·s/ps, τ = ${formatSig(r.fit.tau1.value, 4)} ps, weight 1/t^${formatSig(r.fit.b, 3)}`
+            : `double exponential: A = ${formatSig(r.fit.A.value * 1e3, 4)} mPa·s/ps, α = ${formatSig(r.fit.alpha, 4)}, τ₁ = ${formatSig(r.fit.tau1.value, 4)} ps, τ₂ = ${formatSig(r.fit.tau2.value, 4)} ps, weight 1/t^${formatSig(r.fit.b, 3)}`,
+        ],
         ['Helfand cross-check', r.helfand ? `${mPas(r.helfand)} (slope over ${formatSig(r.helfandWindow!.from, 3)}–${formatSig(r.helfandWindow!.to, 4)} ps)` : '—'],
         ['segments', `${r.segments} × ${formatSig(r.segmentLength.value, 4)} ps (${r.samples} samples every ${formatSig(r.sampleInterval.value, 4)} ps)`],
         ['stress correlation time', `${formatSig(r.correlationTime.value, 3)} ps`],
