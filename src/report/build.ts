@@ -11,6 +11,7 @@
  * independent the derivation is written at the function. Every joined number lists its inputs
  * with the windows they came from.
  */
+import { CORRELATION_SAMPLING_RATIO, trapezoidExponentialBias } from '../fit.js';
 import type { Quantity, Topology } from '../types.js';
 import { quantity } from '../types.js';
 import { ANGSTROM } from '../units.js';
@@ -299,17 +300,10 @@ export function waldenJoin(molarConductivity: Quantity, viscosity: Quantity): { 
 }
 
 /** Smallest C(Δt)/C(0) of a VACF sampled every Δt that the report integrates without a flag. */
-export const VACF_SAMPLING_RATIO = 0.5;
+export const VACF_SAMPLING_RATIO = CORRELATION_SAMPLING_RATIO;
 
-/**
- * Relative overestimate of the trapezoid rule over one step h for an exponential decay
- * C(t) = C(0)e^{−t/τ}, given r = C(h)/C(0): trapezoid h(1 + r)/2 against the exact
- * τ(1 − r) = h(1 − r)/(−ln r), so the ratio is x·coth(x) − 1 with x = −ln(r)/2 (closed form).
- */
-export function trapezoidExponentialBias(r: number): number {
-  const x = -Math.log(r) / 2;
-  return x / Math.tanh(x) - 1;
-}
+/** Relative trapezoid overestimate for an exponential decay (see src/fit.ts). */
+export { trapezoidExponentialBias };
 
 /**
  * Whether a VACF sampled every `dt` ps can be integrated by the trapezoid rule: null when
@@ -911,7 +905,10 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
         );
         const sampling = vacfSamplingProblem(v.normalized, data.vacf!.frameInterval);
         const vOk = v.converged && sampling === null;
-        const vVerdict = sampling ? `not reliable: ${sampling}` : verdictOf(v.converged, v.notes);
+        // The VACF analysis itself flags coarse sampling (src/fit.ts correlationSamplingProblem):
+        // then its own notes carry the reason and it is not repeated here.
+        const flaggedByAnalysis = !v.converged && v.notes.some((n) => n.includes('coarsely sampled'));
+        const vVerdict = sampling && !flaggedByAnalysis ? `not reliable: ${sampling}` : verdictOf(v.converged, v.notes);
         summary.push({
           key: `diffusion.vacf.${label}`, quantity: `D(${label}), periodic box`, value: v.diffusion, scale: D_SCALE, unit: D_UNIT, method: 'VACF integral (Green–Kubo)', window: w,
           verdict: vVerdict, ok: vOk,
