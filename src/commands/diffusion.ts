@@ -81,7 +81,10 @@ export function compareDiffusion(msd: MsdResult, vacf: VacfResult): DiffusionCom
       count: g.count,
       msd: { diffusion: g.diffusion, fit: { from: g.fit.from, to: g.fit.to }, converged: g.converged },
       vacf: { diffusion: v.diffusion, plateau: v.plateau, converged: v.converged },
-      comparison: compareEstimates(g.diffusion, v.diffusion),
+      // Comparing an unconverged estimate would dress a known bias up as a test result.
+      comparison: g.converged && v.converged
+        ? compareEstimates(g.diffusion, v.diffusion)
+        : { difference: quantity(g.diffusion.value - v.diffusion.value, null, g.diffusion.unit), sigmas: null, agree: null },
     };
   });
 }
@@ -101,7 +104,7 @@ export function renderDiffusion(file: string, r: DiffusionResult): string {
         dTable(g.vacf.diffusion) + (g.vacf.converged ? '' : ' *'),
         `${formatSig(g.vacf.plateau.from, 4)}–${formatSig(g.vacf.plateau.to, 4)}${g.vacf.plateau.found ? '' : ' (none)'}`,
         g.comparison.sigmas === null ? '—' : `${formatSig(g.comparison.sigmas, 2)} σ`,
-        g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
+        !g.msd.converged || !g.vacf.converged ? 'not compared' : g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
       ]),
     ),
   );
