@@ -35,16 +35,19 @@ import { InputError } from '../src/errors.js';
 export interface LineHandler<T> {
   /**
    * Handle one line: bytes buf[start, end), without the '\n' and without a '\r' just before
-   * it. `buf` is only valid during the call. Return a completed item or null.
+   * it. `buf` is only valid during the call. Return a completed item or null. `st.base + start`
+   * is the byte offset of the line in the text (for handlers that index frames).
    */
-  line(buf: Uint8Array, start: number, end: number, lineNo: number): T | null;
+  line(buf: Uint8Array, start: number, end: number, lineNo: number, st: LineState<T>): T | null;
   /**
    * End of input. `lines` is the number of lines seen. When the last line had no '\n' and
    * the handler threw an InputError on it, `brokenLastLine` carries that error (the line was
    * probably cut off) and the handler should treat its current item as truncated.
-   * May return one last item.
+   * May return one last item. `unterminated` is true when the last line had no '\n' and `line`
+   * accepted it: if the file was cut short, that line may have lost its end (for example the
+   * last digits of a number) while still parsing, so a handler that used it should say so.
    */
-  finish(lines: number, brokenLastLine: InputError | null): T | null;
+  finish(lines: number, brokenLastLine: InputError | null, unterminated: boolean): T | null;
   /**
    * Optional fast path over many lines at once (XYZ atom rows). `buf[pos]` starts a line and
    * every line starting before `limit` ends with a '\n' before `limit`, so the handler may scan
@@ -61,9 +64,48 @@ export interface LineState<T> {
   /** Lines seen so far (1-based number of the last line handled). */
   lineNo: number;
   item: T | null;
+  /** Byte offset in the whole text of buf[0] for the buffer being handled. */
+  base: number;
+}
+
+/** Where splitLines starts: lines and bytes of the text that come before its first chunk. */
+export interface LineStart {
+  /** Lines before the first chunk (the first line handled gets number lineNo + 1). */
+  lineNo: number;
+  /** Byte offset in the whole text of the first chunk's first byte. */
+  offset: number;
+}
+
+/** Optional settings of splitLines. */
+export interface SplitLinesOptions {
+  /** Where the text starts (default: line 0, offset 0). */
+  from?: LineStart;
+  /**
+   * Called with each chunk once splitLines is done with it (it keeps no reference: a pending
+   * line is copied), so that the chunk's memory may be reused (ByteSource.release).
+   */
+  release?: (chunk: Uint8Array) => void;
 }
 
 const EMPTY = new Uint8Array(0);
+
+/**
+ * Position of the first '\n' in buf at or after `from`, or -1. Node's Buffer search (native
+ * memchr) is applied to the plain Uint8Array: about 10 ns per line on Node 20 here, where
+ * Uint8Array.prototype.indexOf costs about 60 ns per call (measured on 200 MB of XYZ text,
+ * 4.9 M lines). A check at load time falls back to the standard method should Buffer's ever
+ * refuse a view that is not a Buffer.
+ */
+export const findNewline: (buf: Uint8Array, from: number) => number = (() => {
+  const native = Buffer.prototype.indexOf as (this: Uint8Array, v: number, from: number) => number;
+  try {
+    const probe = new Uint8Array([65, 10, 66, 10]);
+    if (native.call(probe, 10, 2) === 3 && native.call(probe, 10, 4) === -1) return (buf, from) => native.call(buf, 10, from);
+  } catch {
+    /* fall through */
+  }
+  return (buf, from) => buf.indexOf(10, from);
+})();
 
 /**
  * Feed the lines of a chunk stream to a handler, yielding each completed item.
@@ -77,21 +119,34 @@ export async function* splitLines<T>(
   chunks: AsyncIterator<Uint8Array>,
   handler: LineHandler<T>,
   onHandlerError?: (err: unknown) => Promise<void>,
+  options: SplitLinesOptions = {},
 ): AsyncGenerator<T, void, undefined> {
-  const st: LineState<T> = { lineNo: 0, item: null };
+  const from = options.from;
+  const release = options.release;
+  const st: LineState<T> = { lineNo: from?.lineNo ?? 0, item: null, base: 0 };
+  /** The chunk handled last, to hand to `release` before the next is asked for. */
+  let done: Uint8Array | null = null;
+  /** Offset of the next chunk's first byte; offset of the pending (carried) line's first byte. */
+  let consumed = from?.offset ?? 0;
+  let carryBase = 0;
   const hasBulk = typeof handler.bulk === 'function';
   let carry: Uint8Array = EMPTY;
   let carryLen = 0;
   let closed = false;
   try {
     for (;;) {
+      if (done !== null && release !== undefined) release(done);
+      done = null;
       const r = await chunks.next();
       if (r.done) break;
       const chunk = r.value;
+      done = chunk;
       const n = chunk.length;
+      const chunkBase = consumed;
+      consumed += n;
       let pos = 0;
       if (carryLen > 0) {
-        const nl = chunk.indexOf(10);
+        const nl = findNewline(chunk, 0);
         if (nl < 0) {
           // The whole chunk belongs to the pending line.
           carry = grow(carry, carryLen + n);
@@ -103,6 +158,7 @@ export async function* splitLines<T>(
         carry.set(chunk.subarray(0, nl + 1), carryLen);
         const len = carryLen + nl + 1;
         carryLen = 0;
+        st.base = carryBase;
         try {
           runLines(handler, carry, 0, len, 0, st);
         } catch (e) {
@@ -117,6 +173,7 @@ export async function* splitLines<T>(
         pos = nl + 1;
       }
       const limit = hasBulk ? chunk.lastIndexOf(10) + 1 : 0;
+      st.base = chunkBase;
       while (pos < n) {
         try {
           pos = runLines(handler, chunk, pos, n, limit, st);
@@ -133,16 +190,20 @@ export async function* splitLines<T>(
         carry = grow(carry, n - pos);
         carry.set(chunk.subarray(pos), 0);
         carryLen = n - pos;
+        carryBase = chunkBase + pos;
       }
     }
     closed = true;
     let broken: InputError | null = null;
+    let unterminated = false;
     if (carryLen > 0) {
       let end = carryLen;
       if (carry[end - 1] === 13) end--;
       st.lineNo++;
+      st.base = carryBase;
       try {
-        const item = handler.line(carry, 0, end, st.lineNo);
+        const item = handler.line(carry, 0, end, st.lineNo, st);
+        unterminated = true;
         if (item !== null) yield item;
       } catch (e) {
         if (!(e instanceof InputError)) throw e;
@@ -151,7 +212,7 @@ export async function* splitLines<T>(
     }
     let last: T | null;
     try {
-      last = handler.finish(st.lineNo, broken);
+      last = handler.finish(st.lineNo, broken, unterminated);
     } catch (e) {
       if (onHandlerError) await onHandlerError(e);
       throw e;
@@ -174,10 +235,10 @@ function runLines<T>(handler: LineHandler<T>, buf: Uint8Array, pos: number, n: n
       pos = handler.bulk!(buf, pos, limit, st);
       if (st.item !== null) return pos;
     }
-    const nl = buf.indexOf(10, pos);
+    const nl = findNewline(buf, pos);
     if (nl < 0 || nl >= n) return pos;
     const end = nl > pos && buf[nl - 1] === 13 ? nl - 1 : nl;
-    const item = handler.line(buf, pos, end, ++st.lineNo);
+    const item = handler.line(buf, pos, end, ++st.lineNo, st);
     pos = nl + 1;
     if (item !== null) {
       st.item = item;
@@ -209,11 +270,12 @@ export interface FloatEnd {
 /**
  * Fast number parser for bulk paths: same grammar and same values as LineCursor.float, but it
  * relies on the line ending with '\n' (no bounds checks) and reports nothing: on anything it
- * does not accept (malformed token, NaN, overflow, a terminator other than blank/CR/LF) it
- * sets end.pos = -1 and the caller hands the line to the checking path. Leading spaces and
- * tabs are skipped.
+ * does not accept (malformed token, NaN, overflow, a terminator other than blank/CR/LF or
+ * `delim`) it sets end.pos = -1 and the caller hands the line to the checking path. Leading
+ * spaces and tabs are skipped. `delim` (default none) is an extra byte accepted right after
+ * the number, like LineCursor.delimiter (',' for CSV tables).
  */
-export function fastFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
+export function fastFloat(buf: Uint8Array, p: number, end: FloatEnd, delim = -1): number {
   // Common case only (no exponent, short mantissa), kept small so that V8 inlines it.
   let c = buf[p]!;
   while (c === 32 || c === 9) c = buf[++p]!;
@@ -237,8 +299,8 @@ export function fastFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
     scale = f0 - p;
     nd -= scale;
   }
-  if (nd === 0 || !(c === 32 || c === 10 || c === 13 || c === 9) || m >= TWO53 || scale < -22) {
-    return fullFloat(buf, start, end);
+  if (nd === 0 || !(c === 32 || c === 10 || c === 13 || c === 9 || c === delim) || m >= TWO53 || scale < -22) {
+    return fullFloat(buf, start, end, delim);
   }
   end.pos = p;
   const v = m / POW10[-scale]!;
@@ -246,7 +308,7 @@ export function fastFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
 }
 
 /** fastFloat's general case (exponents, long mantissas, rejects), from the token start. */
-function fullFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
+function fullFloat(buf: Uint8Array, p: number, end: FloatEnd, delim: number): number {
   let c = buf[p]!;
   while (c === 32 || c === 9) c = buf[++p]!;
   const start = p;
@@ -301,7 +363,7 @@ function fullFloat(buf: Uint8Array, p: number, end: FloatEnd): number {
     }
     if (eneg) e = -e;
   }
-  if (!(c === 32 || c === 10 || c === 13 || c === 9)) {
+  if (!(c === 32 || c === 10 || c === 13 || c === 9 || c === delim)) {
     end.pos = -1;
     return 0;
   }

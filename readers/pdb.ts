@@ -26,18 +26,22 @@
  *   (atoms without one get 0), else null.
  *   Residues: molecule index = runs of consecutive atoms sharing chain, residue number,
  *   insertion code and residue name.
- * - TITLE containing "t= <number>" (as GROMACS writes) gives the time in ps of the next frame.
+ * - TITLE containing "t= <number>" (a convention of several MD writers) gives the time in ps of
+ *   the next frame.
  *
  * Every frame must have the atom count and atom names of the first. A last frame that ends
  * (end of file, no ENDMDL/END) with fewer atoms than the first frame is truncated (warning,
- * or InputError when strict). A single-frame file cut short cannot be recognised as such.
+ * or InputError when strict), and so is a first frame opened by MODEL that the file ends
+ * inside (no ENDMDL). A single-frame file without MODEL records cut short cannot be
+ * recognised as such. An ATOM/HETATM record must reach column 54 (the end of z): a shorter
+ * one has lost coordinates and is an InputError (a truncated frame when it is the last line).
  * Frames share their typed arrays; the Topology comes from the first frame.
  */
 import { InputError } from '../src/errors.js';
 import type { Frame, Residues, Topology } from '../src/types.js';
 import { cellFromParameters } from '../src/cell.js';
-import { buildTopology, truncatedLastFrame, type TrajectoryReadOptions } from './common.js';
-import { LineCursor, latin1, type LineHandler } from './lines.js';
+import { buildTopology, frameWanted, tooManyAtoms, truncatedLastFrame, type FrameSelection, type TrajectoryReadOptions } from './common.js';
+import { LineCursor, latin1, type LineHandler, type LineState } from './lines.js';
 
 const DEG = Math.PI / 180;
 
@@ -70,6 +74,7 @@ export function cellParameterProblem(a: number, b: number, c: number, alpha: num
   const cy = (ca - cb * cg) / sg;
   const zz = 1 - cb * cb - cy * cy;
   if (!(zz > 1e-12)) return `angles alpha=${alpha}, beta=${beta}, gamma=${gamma} do not make a cell (zero or imaginary volume)`;
+  if (!Number.isFinite(a * b * c)) return `cell lengths a=${a}, b=${b}, c=${c} are too large (the volume is not a finite number)`;
   return null;
 }
 
@@ -118,6 +123,8 @@ export class PdbParser implements LineHandler<Frame> {
   private readonly opts: TrajectoryReadOptions;
   private readonly cur: LineCursor;
   private inFrame = false;
+  /** The current frame was opened by a MODEL record (so it must be closed by ENDMDL). */
+  private frameByModel = false;
   private frameIndex = 0;
   private frameLine = 0;
   private atom = 0;
@@ -139,18 +146,42 @@ export class PdbParser implements LineHandler<Frame> {
   private chains: string[] = [];
   private resKeys: string[] = [];
   private topology: Topology | null = null;
+  private readonly select: FrameSelection | undefined;
+  /** The current frame is outside the selection: its atom records are counted, not read. */
+  private skipping = false;
+  /** Atom count of the first skipped frame (the reference while no frame was read). */
+  private refAtoms = -1;
+  /** Complete frames seen (produced or skipped). */
   complete = 0;
 
   constructor(file: string, opts: TrajectoryReadOptions) {
     this.file = file;
     this.opts = opts;
     this.cur = new LineCursor(file);
+    this.select = opts.select;
+    this.frameIndex = opts.firstIndex ?? 0;
+    // Frames before a frame offset are complete frames of the file (for counts in messages).
+    this.complete = this.frameIndex;
+    const seed = opts.seed;
+    if (seed) {
+      if (seed.cell !== null) {
+        this.cell = Float64Array.from(seed.cell);
+        this.hasCell = true;
+      }
+      this.pendingTime = seed.time;
+      this.warnedPlaceholder = seed.placeholderWarned;
+    }
   }
 
-  line(buf: Uint8Array, s: number, e: number, lineNo: number): Frame | null {
+  line(buf: Uint8Array, s: number, e: number, lineNo: number, st?: LineState<Frame>): Frame | null {
     const c0 = e > s ? buf[s]! : 32;
     if (c0 === 65 /* A */ || c0 === 72 /* H */) {
       if (recordIs(buf, s, e, 'ATOM  ') || recordIs(buf, s, e, 'HETATM')) {
+        if (!this.inFrame) this.startFrame(lineNo, st === undefined ? -1 : st.base + s);
+        if (this.skipping) {
+          this.atom++;
+          return null;
+        }
         this.atomLine(buf, s, e, lineNo);
         return null;
       }
@@ -164,7 +195,8 @@ export class PdbParser implements LineHandler<Frame> {
       if (recordIs(buf, s, e, 'MODEL ')) {
         let out: Frame | null = null;
         if (this.inFrame && this.atom > 0) out = this.finishFrame(lineNo);
-        this.startFrame(lineNo);
+        this.startFrame(lineNo, st === undefined ? -1 : st.base + s);
+        this.frameByModel = true;
         return out;
       }
     } else if (c0 === 67 /* C */) {
@@ -172,14 +204,22 @@ export class PdbParser implements LineHandler<Frame> {
     } else if (c0 === 84 /* T */) {
       if (recordIs(buf, s, e, 'TITLE ')) {
         const m = /\bt=\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)/.exec(latin1(buf, s, e));
-        if (m) this.pendingTime = Number(m[1]);
+        if (m) {
+          const t = Number(m[1]);
+          if (!Number.isFinite(t)) throw new InputError(this.file, lineNo, m.index + 1, `TITLE time t=${m[1]} is out of range (overflows to infinity)`);
+          this.pendingTime = t;
+        }
       }
     }
     return null;
   }
 
-  finish(_lines: number, broken: InputError | null): Frame | null {
+  finish(_lines: number, broken: InputError | null, _unterminated: boolean): Frame | null {
+    // An unterminated last line needs no check here: an ATOM record must reach column 54, so
+    // a cut one fails (and arrives as `broken`); later columns are read in frame 1 only.
     if (this.inFrame && (this.atom > 0 || broken)) {
+      // While no frame was read, a skipped frame's atom count is the reference.
+      const nAtoms = this.nAtoms >= 0 ? this.nAtoms : this.refAtoms;
       if (broken) {
         truncatedLastFrame(
           this.file,
@@ -191,13 +231,32 @@ export class PdbParser implements LineHandler<Frame> {
         );
         return null;
       }
-      if (this.nAtoms < 0 || this.atom === this.nAtoms) return this.finishFrame(null);
+      if (nAtoms < 0) {
+        // The first frame ends at the end of the file. Opened by MODEL, it lacks the ENDMDL
+        // that wwPDB v3.3 pairs with every MODEL: the file was cut short, and its atom count
+        // is known from nothing else, so it is a truncated frame.
+        if (this.frameByModel) {
+          truncatedLastFrame(
+            this.file,
+            this.opts,
+            this.frameIndex + 1,
+            this.frameLine,
+            `its MODEL record has no ENDMDL; the file ends after ${this.atom} atom records`,
+            this.complete,
+          );
+          return null;
+        }
+        // Without MODEL records a file with no END is one frame (see the module comment), so
+        // a single-frame file cut short cannot be recognised.
+        return this.finishFrame(null);
+      }
+      if (this.atom === nAtoms) return this.finishFrame(null);
       truncatedLastFrame(
         this.file,
         this.opts,
         this.frameIndex + 1,
         this.frameLine,
-        `${this.atom} of ${this.nAtoms} atom records, no ENDMDL/END`,
+        `${this.atom} of ${nAtoms} atom records, no ENDMDL/END`,
         this.complete,
       );
       return null;
@@ -206,8 +265,19 @@ export class PdbParser implements LineHandler<Frame> {
     return null;
   }
 
-  private startFrame(lineNo: number): void {
+  private startFrame(lineNo: number, offset = -1): void {
+    const onStart = this.opts.onFrameStart;
+    if (onStart) {
+      const seed = {
+        cell: this.hasCell && this.cell !== null ? Array.from(this.cell) : null,
+        time: this.pendingTime,
+        placeholderWarned: this.warnedPlaceholder,
+      };
+      onStart({ index: this.frameIndex, line: lineNo, offset, seed });
+    }
+    this.skipping = !frameWanted(this.select, this.frameIndex);
     this.inFrame = true;
+    this.frameByModel = false;
     this.atom = 0;
     this.frameLine = lineNo;
     this.time = this.pendingTime;
@@ -216,6 +286,16 @@ export class PdbParser implements LineHandler<Frame> {
 
   private atomLine(buf: Uint8Array, s: number, e: number, lineNo: number): void {
     if (!this.inFrame) this.startFrame(lineNo);
+    if (e - s < 54) {
+      // wwPDB v3.3: x, y, z are Real(8.3) in columns 31-38, 39-46, 47-54 (right-justified), so
+      // a record that stops before column 54 has lost part of its coordinates.
+      throw new InputError(
+        this.file,
+        lineNo,
+        e - s + 1,
+        `${latin1(buf, s, Math.min(e, s + 6)).trim()} record ends at column ${e - s}, before the end of the z coordinate (columns 47-54): the line is cut short`,
+      );
+    }
     const i = this.atom;
     const first = this.nAtoms < 0;
     const cur = this.cur;
@@ -252,6 +332,8 @@ export class PdbParser implements LineHandler<Frame> {
     }
     // coordinates
     if (3 * (i + 1) > this.positions.length) {
+      const tooMany = tooManyAtoms(i + 1);
+      if (tooMany !== null) throw new InputError(this.file, lineNo, null, `frame ${this.frameIndex + 1}: ${tooMany}`);
       const np = new Float64Array(this.positions.length * 2);
       np.set(this.positions);
       this.positions = np;
@@ -327,7 +409,15 @@ export class PdbParser implements LineHandler<Frame> {
     this.hasCell = true;
   }
 
-  private finishFrame(endLine: number | null): Frame {
+  private finishFrame(endLine: number | null): Frame | null {
+    if (this.skipping) {
+      if (this.nAtoms < 0 && this.refAtoms < 0) this.refAtoms = this.atom;
+      this.frameIndex++;
+      this.complete++;
+      this.inFrame = false;
+      this.atom = 0;
+      return null;
+    }
     if (this.nAtoms < 0) {
       this.nAtoms = this.atom;
       this.positions = this.positions.slice(0, 3 * this.atom);

@@ -27,23 +27,33 @@
  * inside a frame's atom rows is an error unless only blank lines follow to the end of the
  * file (then the frame is truncated).
  *
+ * Guards: an atom count above maxAtoms() (readers/common.ts: 2^28, or less when the coordinate
+ * arrays would fill half the machine's memory) is refused at its line before anything is
+ * allocated; below it, the first frame's arrays grow as rows arrive, so a wrong count costs
+ * nothing. A last frame completed by a line without '\n' is used with a warning (InputError
+ * when strict): a file cut inside the last number of a row would still parse.
+ *
  * Frames share their typed arrays (positions, velocities, cell): the next frame overwrites
  * them. The Topology is built once from the first frame.
  */
 import { InputError } from '../src/errors.js';
 import type { Frame, Topology } from '../src/types.js';
-import { buildTopology, truncatedLastFrame, type TrajectoryReadOptions } from './common.js';
-import { LineCursor, fastFloat, latin1, parseNumberString, type FloatEnd, type LineHandler, type LineState } from './lines.js';
+import { buildTopology, frameWanted, tooManyAtoms, truncatedLastFrame, type FrameSelection, type TrajectoryReadOptions } from './common.js';
+import { LineCursor, fastFloat, findNewline, latin1, parseNumberString, type FloatEnd, type LineHandler, type LineState } from './lines.js';
 
 const ST_COUNT = 0;
 const ST_COMMENT = 1;
 const ST_ATOMS = 2;
 const ST_BLANK = 3;
+/** A frame outside the selection: its comment and atom rows are counted, not read. */
+const ST_SKIP = 4;
 
 // Column actions: 0..2 position x,y,z; 3..5 velocity x,y,z; 6 label; 7 skip.
 const A_LABEL = 6;
 const A_SKIP = 7;
 const WHAT = ['x coordinate', 'y coordinate', 'z coordinate', 'x velocity', 'y velocity', 'z velocity'];
+/** First-frame arrays start at this many atoms and grow as rows arrive (a wrong count costs nothing). */
+const INITIAL_ATOMS = 1 << 16;
 
 /** One key=value of an extended-XYZ comment line. */
 export interface CommentValue {
@@ -174,6 +184,10 @@ export class XyzParser implements LineHandler<Frame> {
   private atom = 0;
   private blankLine = 0;
   private positions: Float64Array = new Float64Array(0);
+  /** Atoms the arrays can hold (grows during the first frame up to its count). */
+  private cap = 0;
+  /** Line of the atom row that completed the last frame. */
+  private lastRowLine = 0;
   private velocities: Float64Array | null = null;
   private cell: Float64Array | null = null;
   private hasCell = false;
@@ -191,17 +205,28 @@ export class XyzParser implements LineHandler<Frame> {
   private labelLen = 0;
   private topology: Topology | null = null;
   private readonly fend: FloatEnd = { pos: 0 };
-  /** Complete frames produced. */
+  private readonly select: FrameSelection | undefined;
+  /** ST_SKIP: lines of the skipped frame still to count (comment and atom rows). */
+  private skipLeft = 0;
+  /** Complete frames seen (produced or skipped). */
   complete = 0;
 
   constructor(file: string, opts: TrajectoryReadOptions) {
     this.file = file;
     this.opts = opts;
     this.cur = new LineCursor(file);
+    this.select = opts.select;
+    this.frameIndex = opts.firstIndex ?? 0;
+    // Frames before a frame offset are complete frames of the file (for counts in messages).
+    this.complete = this.frameIndex;
   }
 
-  line(buf: Uint8Array, start: number, end: number, lineNo: number): Frame | null {
+  line(buf: Uint8Array, start: number, end: number, lineNo: number, st?: LineState<Frame>): Frame | null {
     const state = this.state;
+    if (state === ST_SKIP) {
+      if (--this.skipLeft === 0) this.endSkipped();
+      return null;
+    }
     if (state === ST_ATOMS) {
       if (start === end || LineCursor.isBlankLine(buf, start, end)) {
         this.state = ST_BLANK;
@@ -209,12 +234,15 @@ export class XyzParser implements LineHandler<Frame> {
         return null;
       }
       this.row(buf, start, end, lineNo);
-      if (++this.atom === this.count) return this.finishFrame();
+      if (++this.atom === this.count) {
+        this.lastRowLine = lineNo;
+        return this.finishFrame();
+      }
       return null;
     }
     if (state === ST_COUNT) {
       if (LineCursor.isBlankLine(buf, start, end)) return null;
-      this.countLine(buf, start, end, lineNo);
+      this.countLine(buf, start, end, lineNo, st === undefined ? -1 : st.base + start);
       return null;
     }
     if (state === ST_COMMENT) {
@@ -240,21 +268,26 @@ export class XyzParser implements LineHandler<Frame> {
    * Nothing is recorded for a line until it is known to be complete and well formed.
    */
   bulk(buf: Uint8Array, pos: number, limit: number, st: LineState<Frame>): number {
-    if (this.state !== ST_ATOMS || this.layout === null) return pos;
+    if (this.state !== ST_ATOMS || this.layout === null) return this.state === ST_SKIP ? this.skipLines(buf, pos, limit, st) : pos;
     const first = this.nAtoms < 0;
     const actions = this.layout.actions;
     const nc = actions.length;
+    if (!first && nc === 4 && actions[0] === A_LABEL && actions[1] === 0 && actions[2] === 1 && actions[3] === 2) {
+      return this.bulkLabelXyz(buf, pos, limit, st);
+    }
     const P = this.positions;
     const V = this.velocities;
     const lb = this.labelBytes;
     const lo = this.labelOff;
     const fend = this.fend;
     const count = this.count;
+    const cap = this.cap;
     let atom = this.atom;
     let lineNo = st.lineNo;
     let labS = 0;
     let labE = 0;
     rows: while (pos < limit) {
+      if (atom >= cap) break; // first frame: the arrays must grow (row() does it)
       let p = pos;
       const i3 = atom * 3;
       for (let c = 0; c < nc; c++) {
@@ -305,29 +338,129 @@ export class XyzParser implements LineHandler<Frame> {
     return pos;
   }
 
-  finish(_lines: number, broken: InputError | null): Frame | null {
+  finish(lines: number, broken: InputError | null, unterminated: boolean): Frame | null {
     const st = this.state;
     if (st === ST_COUNT && broken === null) {
       if (this.complete === 0) throw new InputError(this.file, null, null, 'no frame found (the file is empty or blank)');
+      if (unterminated && this.lastRowLine === lines) {
+        // The last frame was completed by a line without '\n': if the file was cut short, that
+        // row may have lost the end of its last number and still parsed.
+        if (this.opts.strict) {
+          throw new InputError(
+            this.file,
+            lines,
+            null,
+            `frame ${this.complete} may be truncated: the file ends without a newline in its last atom row, which may have been cut short; strict mode rejects a possibly truncated last frame`,
+          );
+        }
+        this.opts.warnings.push(
+          `${this.file}:${lines}: frame ${this.complete} may be truncated: the file ends without a newline in its last atom row; if the file was cut short, that row's last value is incomplete (it was used as read)`,
+        );
+      }
       return null;
     }
     let detail: string;
     if (st === ST_COUNT) detail = `its atom-count line is cut off: ${broken!.message}`;
-    else if (st === ST_COMMENT) detail = `it ends after the atom count, before the comment line`;
+    else if (st === ST_COMMENT || (st === ST_SKIP && this.skipLeft === this.count + 1)) {
+      detail = `it ends after the atom count, before the comment line`;
+    } else if (st === ST_SKIP) detail = `${this.count - this.skipLeft} of ${this.count} atom rows`;
     else {
       detail = `${this.atom} of ${this.count} atom rows`;
       if (broken) detail += `; the last line is incomplete: ${broken.message}`;
     }
-    truncatedLastFrame(this.file, this.opts, this.frameIndex + 1, this.frameLine, detail, this.complete);
+    // A cut-off count line starts the truncated frame itself (frameLine is still the previous frame's).
+    const startLine = st === ST_COUNT ? (broken!.line ?? lines) : this.frameLine;
+    truncatedLastFrame(this.file, this.opts, this.frameIndex + 1, startLine, detail, this.complete);
     return null;
   }
 
-  private countLine(buf: Uint8Array, start: number, end: number, lineNo: number): void {
+  /**
+   * bulk() for the most common rows, `label x y z` after the first frame, as straight-line code
+   * (no per-column dispatch): the label is compared with the first frame's and must be followed
+   * by a blank; the three numbers go through fastFloat. It accepts and declines exactly the rows
+   * the general loop does (a label of other length or bytes, or any unusual byte, declines).
+   */
+  private bulkLabelXyz(buf: Uint8Array, pos: number, limit: number, st: LineState<Frame>): number {
+    const P = this.positions;
+    const lb = this.labelBytes;
+    const lo = this.labelOff;
+    const fend = this.fend;
+    const count = this.count;
+    let atom = this.atom;
+    let lineNo = st.lineNo;
+    while (pos < limit) {
+      let p = pos;
+      let ch = buf[p]!;
+      while (ch === 32 || ch === 9) ch = buf[++p]!;
+      const o = lo[atom]!;
+      const len = lo[atom + 1]! - o;
+      let k = 0;
+      while (k < len && buf[p + k] === lb[o + k]) k++;
+      if (k !== len) break;
+      p += len;
+      ch = buf[p]!;
+      if (ch !== 32 && ch !== 9) break;
+      // One call site in a loop, so that V8 inlines fastFloat (three sites exceed its budget).
+      // A row declined after this is parsed again by line(), which writes all three values.
+      const i3 = atom * 3;
+      for (let c = 0; c < 3; c++) {
+        P[i3 + c] = fastFloat(buf, p, fend);
+        p = fend.pos;
+        if (p < 0) break;
+      }
+      if (p < 0) break;
+      ch = buf[p]!;
+      if (ch !== 10) {
+        while (ch === 32 || ch === 9 || ch === 13) ch = buf[++p]!;
+        if (ch !== 10) break;
+      }
+      pos = p + 1;
+      lineNo++;
+      atom++;
+      if (atom === count) {
+        this.atom = atom;
+        st.lineNo = lineNo;
+        st.item = this.finishFrame();
+        return pos;
+      }
+    }
+    this.atom = atom;
+    st.lineNo = lineNo;
+    return pos;
+  }
+
+  /** Bulk path of a skipped frame: count its lines with the native newline search, parse nothing. */
+  private skipLines(buf: Uint8Array, pos: number, limit: number, st: LineState<Frame>): number {
+    let left = this.skipLeft;
+    let p = pos;
+    while (left > 0 && p < limit) {
+      p = findNewline(buf, p) + 1;
+      left--;
+    }
+    st.lineNo += this.skipLeft - left;
+    this.skipLeft = left;
+    if (left === 0) this.endSkipped();
+    return p;
+  }
+
+  /** A skipped frame's lines are all counted: it is complete. */
+  private endSkipped(): void {
+    this.frameIndex++;
+    this.complete++;
+    this.state = ST_COUNT;
+  }
+
+  private countLine(buf: Uint8Array, start: number, end: number, lineNo: number, offset: number): void {
     const cur = this.cur;
     cur.reset(buf, start, end, lineNo);
     const n = cur.uint(`the atom count of frame ${this.frameIndex + 1}`);
     cur.expectEnd('the atom count');
     if (n === 0) throw cur.error(cur.lineStart, `frame ${this.frameIndex + 1} has an atom count of 0`);
+    if (this.nAtoms < 0) {
+      // Refuse a count this machine cannot hold before allocating anything for it.
+      const tooMany = tooManyAtoms(n);
+      if (tooMany !== null) throw cur.error(cur.lineStart, `frame ${this.frameIndex + 1}: ${tooMany}`);
+    }
     if (this.nAtoms >= 0 && n !== this.nAtoms) {
       throw new InputError(
         this.file,
@@ -336,9 +469,18 @@ export class XyzParser implements LineHandler<Frame> {
         `frame ${this.frameIndex + 1} has ${n} atoms, but the first frame has ${this.nAtoms} (every frame must have the same atoms)`,
       );
     }
+    this.opts.onFrameStart?.({ index: this.frameIndex, line: lineNo, offset, seed: null });
+    if (!frameWanted(this.select, this.frameIndex)) {
+      this.count = n;
+      this.frameLine = lineNo;
+      this.skipLeft = n + 1;
+      this.state = ST_SKIP;
+      return;
+    }
     if (this.nAtoms < 0) {
-      this.positions = new Float64Array(3 * n);
-      this.labelOff = new Int32Array(n + 1);
+      this.cap = Math.min(n, INITIAL_ATOMS);
+      this.positions = new Float64Array(3 * this.cap);
+      this.labelOff = new Int32Array(this.cap + 1);
     }
     this.count = n;
     this.frameLine = lineNo;
@@ -368,6 +510,9 @@ export class XyzParser implements LineHandler<Frame> {
       const na = Math.hypot(cell[0]!, cell[1]!, cell[2]!);
       const nb = Math.hypot(cell[3]!, cell[4]!, cell[5]!);
       const nc = Math.hypot(cell[6]!, cell[7]!, cell[8]!);
+      if (!Number.isFinite(det) || !Number.isFinite(na * nb * nc)) {
+        throw new InputError(this.file, lineNo, lat.column, `Lattice= vectors are too long: the cell volume is not a finite number`);
+      }
       if (!(Math.abs(det) > 1e-10 * na * nb * nc)) {
         throw new InputError(this.file, lineNo, lat.column, `Lattice= vectors are degenerate (cell volume ${det})`);
       }
@@ -415,7 +560,7 @@ export class XyzParser implements LineHandler<Frame> {
     const v = this.layout!.velocities;
     if (first) {
       this.firstVelocities = v;
-      if (v && this.velocities === null) this.velocities = new Float64Array(3 * this.count);
+      if (v && this.velocities === null) this.velocities = new Float64Array(3 * this.cap);
     } else if (v !== this.firstVelocities) {
       throw new InputError(
         this.file,
@@ -429,6 +574,7 @@ export class XyzParser implements LineHandler<Frame> {
   }
 
   private row(buf: Uint8Array, start: number, end: number, lineNo: number): void {
+    if (this.atom >= this.cap) this.grow();
     const cur = this.cur;
     cur.reset(buf, start, end, lineNo);
     let layout = this.layout;
@@ -506,6 +652,26 @@ export class XyzParser implements LineHandler<Frame> {
         `atom ${atom + 1} of frame ${this.frameIndex + 1} is labelled '${latin1(buf, s, e)}', but '${this.labels[atom]}' in the first frame (every frame must list the same atoms in the same order)`,
       );
     }
+  }
+
+  /**
+   * First frame: enlarge the arrays (positions, velocities, label offsets) to the next size,
+   * doubling up to the frame's atom count, so that they end exactly 3 × count long.
+   */
+  private grow(): void {
+    const cap = Math.min(this.count, Math.max(2 * this.cap, INITIAL_ATOMS));
+    const p = new Float64Array(3 * cap);
+    p.set(this.positions);
+    this.positions = p;
+    if (this.velocities !== null) {
+      const v = new Float64Array(3 * cap);
+      v.set(this.velocities);
+      this.velocities = v;
+    }
+    const o = new Int32Array(cap + 1);
+    o.set(this.labelOff);
+    this.labelOff = o;
+    this.cap = cap;
   }
 
   /** First frame: remember the label of atom this.atom (bytes for comparisons, and text). */

@@ -11,6 +11,7 @@ import { Command, CommanderError } from 'commander';
 import { COMMANDS } from './commands/index.js';
 import { exitStatusFor, InputError, UsageError, AnalysisError } from './errors.js';
 import { VERSION } from './version.js';
+import { OutputWriteError } from './output.js';
 
 /** Build the commander program with every registered command. */
 export function buildProgram(): Command {
@@ -36,7 +37,7 @@ export async function main(argv: string[]): Promise<number> {
       // --help and --version end here with exitCode 0; commander already printed them.
       return err.exitCode === 0 ? 0 : 2;
     }
-    if (err instanceof InputError || err instanceof UsageError || err instanceof AnalysisError) {
+    if (err instanceof InputError || err instanceof UsageError || err instanceof AnalysisError || err instanceof OutputWriteError) {
       process.stderr.write(`sojourn: ${err instanceof UsageError ? 'usage error' : 'error'}: ${err.message}\n`);
     } else {
       process.stderr.write(`sojourn: internal error: ${err instanceof Error ? err.stack ?? err.message : String(err)}\n`);

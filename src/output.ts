@@ -2,7 +2,7 @@
  * Output helpers: the JSON envelope every command prints with --json, atomic file writes,
  * number formatting with uncertainties, and aligned text tables.
  */
-import { promises as fsp, realpathSync, existsSync } from 'node:fs';
+import { promises as fsp, realpathSync, existsSync, statSync } from 'node:fs';
 import * as path from 'node:path';
 import { randomBytes } from 'node:crypto';
 import { UsageError } from './errors.js';
@@ -56,30 +56,86 @@ export function toJson(value: unknown, indent = 2): string {
   );
 }
 
+/** A file could not be written; the message names it and the system's reason. */
+export class OutputWriteError extends Error {
+  readonly target: string;
+  readonly code: string | undefined;
+  constructor(target: string, cause: unknown) {
+    const e = cause as NodeJS.ErrnoException;
+    const code = e && typeof e === 'object' ? e.code : undefined;
+    const why =
+      code === 'ENOENT'
+        ? 'its folder does not exist'
+        : code === 'EISDIR'
+          ? 'it is a folder'
+          : code === 'EACCES' || code === 'EPERM'
+            ? 'permission denied'
+            : code === 'ENOSPC'
+              ? 'no space left on the device'
+              : cause instanceof Error
+                ? cause.message
+                : String(cause);
+    super(`cannot write ${target}: ${why}`);
+    this.name = 'OutputWriteError';
+    this.target = target;
+    this.code = code;
+  }
+}
+
 /**
- * Write a file atomically: the data go to a temporary name in the same directory, which is
- * renamed over the target only when complete, so a reader never sees a half-written file.
+ * Write a file atomically: the data go to a temporary name in the same directory, are flushed
+ * to the disk (fsync), and the temporary file is renamed over the target only when complete
+ * (rename(2) replaces a name atomically, POSIX.1-2017), so a reader — or a later look after the
+ * process was killed — sees either the old file or the whole new one, never a part. On failure
+ * the temporary file is removed and an OutputWriteError is thrown.
  */
 export async function writeFileAtomic(target: string, data: string | Uint8Array): Promise<void> {
   const dir = path.dirname(path.resolve(target));
   const tmp = path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
   try {
-    await fsp.writeFile(tmp, data);
+    const fh = await fsp.open(tmp, 'wx');
+    try {
+      await fh.writeFile(data);
+      await fh.sync();
+    } finally {
+      await fh.close();
+    }
     await fsp.rename(tmp, target);
   } catch (e) {
     await fsp.rm(tmp, { force: true });
-    throw e;
+    throw new OutputWriteError(target, e);
   }
 }
 
-/** Refuse an output path that is one of the inputs (compared after resolving links). */
+/**
+ * Refuse an output path that is one of the inputs: the same path after resolving symbolic
+ * links, or the same file under another name (hard link: same device and inode).
+ */
 export function refuseOverwritingInputs(output: string, inputs: string[]): void {
   const resolve = (p: string) => (existsSync(p) ? realpathSync(p) : path.resolve(p));
   const out = resolve(output);
+  const outStat = existsSync(output) ? statSync(output) : null;
   for (const i of inputs) {
     if (i === '-') continue;
-    if (resolve(i) === out) throw new UsageError(`output ${output} is also an input; refusing to overwrite it`);
+    let same = resolve(i) === out;
+    if (!same && outStat && existsSync(i)) {
+      const st = statSync(i);
+      same = st.dev === outStat.dev && st.ino === outStat.ino;
+    }
+    if (same) throw new UsageError(`output ${output} is also an input; refusing to overwrite it`);
   }
+}
+
+/**
+ * Check an output file path before any work is done: not an input (see
+ * refuseOverwritingInputs), not an existing folder, and in a folder that exists. Usage errors
+ * otherwise, so that a long run does not end in a failed write.
+ */
+export function checkOutputFile(output: string, inputs: string[], what: string): void {
+  refuseOverwritingInputs(output, inputs);
+  if (existsSync(output) && statSync(output).isDirectory()) throw new UsageError(`${what} ${output} is a folder; give a file name`);
+  const dir = path.dirname(path.resolve(output));
+  if (!existsSync(dir) || !statSync(dir).isDirectory()) throw new UsageError(`${what} ${output}: the folder ${dir} does not exist`);
 }
 
 /**

@@ -5,10 +5,14 @@
 import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Topology, Warnings } from './types.js';
 import { InputError, UsageError } from './errors.js';
 
-/** A source of frames, as produced by readers/index.ts openTrajectory. */
+/**
+ * A source of frames, as produced by readers/index.ts openTrajectory. Given a range, frames()
+ * may leave out the frames outside it (the readers skip them without parsing and stop after
+ * the last one); frames outside it that still arrive are ignored.
+ */
 export interface FrameSource {
   path: string;
-  frames(): AsyncGenerator<Frame>;
+  frames(range?: FrameRange): AsyncGenerator<Frame>;
 }
 
 /** Which frames to use: [from, to) with a stride (all 0-based frame indices of the file). */
@@ -69,7 +73,10 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
   let prevTime: number | null = null;
   let fileInterval: number | null = null;
   let irregular = false;
-  for await (const f of source.frames()) {
+  // Messages name the input as the readers do ('-' is standard input).
+  const name = source.path === '-' ? '<stdin>' : source.path;
+  // The range goes down to the reader, so that skipped frames are not parsed.
+  for await (const f of source.frames(opts.range)) {
     if (f.index < range.from) continue;
     if (f.index >= range.to) break;
     if ((f.index - range.from) % range.stride !== 0) continue;
@@ -78,7 +85,7 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
       if (prevTime !== null) {
         const dt = f.time - prevTime;
         if (!(dt > 0)) {
-          throw new InputError(source.path, f.line, null, `frame ${f.index} has time ${f.time} ps, not after the previous frame's ${prevTime} ps`);
+          throw new InputError(name, f.line, null, `frame ${f.index + 1} has time ${f.time} ps, not after the previous frame's ${prevTime} ps`);
         }
         if (fileInterval === null) fileInterval = dt;
         else if (Math.abs(dt - fileInterval) > 1e-6 * Math.max(1, fileInterval) + 1e-9 * Math.abs(f.time)) irregular = true;
@@ -86,7 +93,7 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
       prevTime = f.time;
     }
     if (accs === null) {
-      if (opts.masses) applyMasses(f.topology, opts.masses, source.path);
+      if (opts.masses) applyMasses(f.topology, opts.masses, name);
       ctx = {
         topology: f.topology,
         firstCell: f.cell ? Float64Array.from(f.cell) : null,
@@ -103,13 +110,13 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
     opts.onFrame?.(used);
   }
   if (accs === null || ctx === null) {
-    throw new InputError(source.path, null, null, range.from > 0 ? `no frames in the range ${range.from}:${range.to === Infinity ? '' : range.to}` : 'no complete frames');
+    throw new InputError(name, null, null, range.from > 0 ? `no frames in the range ${range.from}:${range.to === Infinity ? '' : range.to}` : 'no complete frames');
   }
   if (fileInterval !== null) {
-    if (irregular) opts.warnings.push(`${source.path}: frame times are not evenly spaced; the first interval (${fileInterval} ps) is used`);
+    if (irregular) opts.warnings.push(`${name}: frame times are not evenly spaced; the first interval (${fileInterval} ps) is used`);
     if (ctx.frameInterval !== null && Math.abs(ctx.frameInterval - fileInterval) > 1e-3 * fileInterval) {
       throw new UsageError(
-        `--frame-interval gives ${ctx.frameInterval} ps between used frames but ${source.path} carries times ${fileInterval} ps apart`,
+        `--frame-interval gives ${ctx.frameInterval} ps between used frames but ${name} carries times ${fileInterval} ps apart`,
       );
     }
     ctx.frameInterval = fileInterval;

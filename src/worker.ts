@@ -4,10 +4,12 @@
  */
 import { workerData } from 'node:worker_threads';
 import { buildProgram } from './cli.js';
-import { installWorkerCapture, PartialsHandedOver, replyWorkerError, setInvocation } from './commands/parallel.js';
+import { installWorkerCapture, PartialsHandedOver, replyWorkerError, setInvocation, setWorkerReadPlan, type WorkerReadPlan } from './commands/parallel.js';
 
-const argv = (workerData as { argv: string[] }).argv;
+const data = workerData as { argv: string[]; plan?: WorkerReadPlan };
+const argv = data.argv;
 setInvocation(argv);
+setWorkerReadPlan(data.plan ?? null);
 installWorkerCapture();
 try {
   await buildProgram().parseAsync(['node', 'sojourn', ...argv]);

@@ -10,10 +10,10 @@ import { runPasses, parseFrameRange, type RunOutput } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
-import { envelope, toJson, writeFileAtomic, refuseOverwritingInputs, type InputRecord } from '../output.js';
+import { checkOutputFile, envelope, toJson, writeFileAtomic, type InputRecord } from '../output.js';
 import { encodePartial, encodeTopology, type PartialFile } from '../partials.js';
 import { VERSION } from '../version.js';
-import { currentInvocation, mergeSource, runInWorkers, workerCapture } from './parallel.js';
+import { currentInvocation, mergeSource, runInWorkers, workerCapture, workerReadPlan } from './parallel.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
 
 /** Options every trajectory command accepts. */
@@ -111,7 +111,7 @@ export async function runOnTrajectory(
   const frameInterval = parsePositiveTime(opts.frameInterval, '--frame-interval');
   const cell = opts.box ? parseBox(opts.box) : null;
   const range = opts.frames ? parseFrameRange(opts.frames) : undefined;
-  if (opts.partialOut) refuseOverwritingInputs(opts.partialOut, [file]);
+  if (opts.partialOut) checkOutputFile(opts.partialOut, [file], '--partial-out');
   const merged = mergeSource();
   if (merged) return merged(file, passes, warnings);
   const threads = opts.threads === undefined ? null : Number(opts.threads);
@@ -120,7 +120,14 @@ export async function runOnTrajectory(
   const parallel = workerCapture() === null ? await runInWorkers(file, opts, passes, warnings, threads) : null;
   if (parallel) run = parallel;
   else {
-    const input = await openTrajectory(file, { format: opts.format, strict: !!opts.strict, warnings });
+    // In a worker, the parent's plan says where the share starts and ends and gives the digest.
+    const plan = workerReadPlan(file);
+    const input = await openTrajectory(file, {
+      format: plan?.format ?? opts.format,
+      strict: !!opts.strict,
+      warnings,
+      ...(plan ? { hash: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
+    });
     const progress = progressFor(file, opts.quiet);
     let out: RunOutput;
     try {
@@ -130,7 +137,13 @@ export async function runOnTrajectory(
     }
     run = {
       ...out,
-      input: { path: file, sha256: input.sha256(), bytes: input.rawBytes(), format: input.format, frames: input.framesRead() },
+      input: {
+        path: file,
+        sha256: plan ? plan.sha256 : input.sha256(),
+        bytes: plan ? plan.bytes : input.rawBytes(),
+        format: input.format,
+        frames: input.framesComplete(),
+      },
     };
   }
   const capture = workerCapture();

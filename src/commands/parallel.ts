@@ -13,7 +13,8 @@ import { existsSync } from 'node:fs';
 import type { Pass, Warnings } from '../types.js';
 import { UsageError, InputError, AnalysisError } from '../errors.js';
 import { decodePartial, decodeTopology, type PartialFile } from '../partials.js';
-import { countFrames } from '../../readers/scan.js';
+import { indexFrames, type FrameIndex } from '../../readers/scan.js';
+import type { FrameSeed } from '../../readers/common.js';
 import type { TrajectoryOptions, TrajectoryRun } from './common.js';
 
 let invocation: { command: string; args: string[] } = { command: '', args: [] };
@@ -26,6 +27,35 @@ export function setInvocation(args: string[]): void {
 /** The command line being run: command name and its arguments. */
 export function currentInvocation(): { command: string; args: string[] } {
   return invocation;
+}
+
+/**
+ * How a worker reads its share, worked out by the parent from its frame index (readers/scan.ts):
+ * the format, the digest and size of the whole file (the parent's scan hashed it once, so the
+ * worker hashes nothing), and for a plain file the byte offset, line and carried state of the
+ * share's first frame and the offset where the share ends, so that the worker reads only its
+ * share. A gzip file cannot be entered in the middle: its workers read from the start,
+ * skipping earlier frames by counting lines, and stop after their share.
+ */
+export interface WorkerReadPlan {
+  path: string;
+  format: 'xyz' | 'pdb';
+  sha256: string;
+  bytes: number;
+  start?: { offset: number; line: number; index: number; seed: FrameSeed | null };
+  end?: number;
+}
+
+let readPlan: WorkerReadPlan | null = null;
+
+/** In a worker: how to read the trajectory `file` (null when the parent gave no plan for it). */
+export function workerReadPlan(file: string): WorkerReadPlan | null {
+  return readPlan !== null && readPlan.path === file ? readPlan : null;
+}
+
+/** Worker side: install the read plan the parent sent (workerData.plan). */
+export function setWorkerReadPlan(plan: WorkerReadPlan | null): void {
+  readPlan = plan;
 }
 
 type MergeFn = (file: string, passes: Pass[], warnings: Warnings) => Promise<TrajectoryRun>;
@@ -180,17 +210,28 @@ export async function runInWorkers(
   const script = workerScript();
   if (!script) return null;
   const range = opts.frames;
-  const total = await countFrames(file, opts.format);
-  // Frame range requested by the user, clipped to the file.
-  let from = 0, to = total, stride = 1;
+  // Frame range requested by the user.
+  let from = 0, to = Infinity, stride = 1;
   if (range) {
     const m = /^(\d*):(\d*)(?::(\d+))?$/.exec(range.trim());
     if (m) {
       from = m[1] === '' ? 0 : Number(m[1]);
-      to = m[2] === '' ? total : Math.min(total, Number(m[2]));
+      to = m[2] === '' ? Infinity : Number(m[2]);
       stride = m[3] === undefined ? 1 : Number(m[3]);
     }
   }
+  // One scan finds the frame starts (up to `to`) and hashes the file. Bad input: read on one
+  // thread instead, which reports it exactly as a plain read does.
+  let index: FrameIndex;
+  try {
+    index = await indexFrames(file, { ...(opts.format ? { format: opts.format } : {}), ...(Number.isFinite(to) ? { upTo: to } : {}) });
+  } catch (e) {
+    if (e instanceof InputError) return null;
+    throw e;
+  }
+  const total = index.frames;
+  const userTo = to;
+  to = Math.min(total, to);
   const used = Math.max(0, Math.ceil((to - from) / stride));
   if (used < 2 * n) return null;
   const per = Math.ceil(used / n);
@@ -200,10 +241,20 @@ export async function runInWorkers(
     const a = from + w * per * stride;
     const b = Math.min(to, from + (w + 1) * per * stride);
     if (a >= b) break;
-    const argv = [invocation.command, ...args, '--frames', `${a}:${b}:${stride}`, '--threads', '1', '--quiet'];
+    // The last share of a range open past the file's end reads to the end of the file, as one
+    // read does (so a truncated last frame is reported the same way).
+    const toEnd = b === to && userTo > total;
+    const argv = [invocation.command, ...args, '--frames', `${a}:${toEnd ? '' : b}:${stride}`, '--threads', '1', '--quiet'];
+    const plan: WorkerReadPlan = { path: file, format: index.format, sha256: index.sha256, bytes: index.bytes };
+    if (!index.compressed) {
+      const s = index.start(a);
+      if (a > 0 && s !== null) plan.start = s;
+      const e = toEnd ? null : index.start(b);
+      if (e !== null) plan.end = e.offset;
+    }
     jobs.push(
       new Promise<WorkerReply>((resolve, reject) => {
-        const worker = new Worker(script, { workerData: { argv } });
+        const worker = new Worker(script, { workerData: { argv, plan } });
         worker.once('message', (m: WorkerReply) => resolve(m));
         worker.once('error', reject);
         worker.once('exit', (code) => {
@@ -221,6 +272,22 @@ export async function runInWorkers(
       throw new Error(e.message);
     }
   }
+  // Each worker checked its frames against its own first frame; the shares must agree too.
+  const t0 = replies[0].topology as TrajectoryRun['ctx']['topology'];
+  for (const r of replies.slice(1)) {
+    const t = r.topology as TrajectoryRun['ctx']['topology'];
+    const k = t.atoms !== t0.atoms ? -1 : t.labels.findIndex((x, i) => x !== t0.labels[i]);
+    if (t.atoms !== t0.atoms || k >= 0) {
+      throw new InputError(
+        file,
+        null,
+        null,
+        t.atoms !== t0.atoms
+          ? `frame ${r.firstIndex! + 1} has ${t.atoms} atoms, but frame ${replies[0].firstIndex! + 1} has ${t0.atoms} (every frame must have the same atoms)`
+          : `atom ${k + 1} of frame ${r.firstIndex! + 1} is labelled '${t.labels[k]}', but '${t0.labels[k]}' in frame ${replies[0].firstIndex! + 1} (every frame must list the same atoms in the same order)`,
+      );
+    }
+  }
   const seen = new Set<string>();
   for (const r of replies) for (const w of r.warnings ?? []) if (!seen.has(w)) { seen.add(w); warnings.push(w); }
   // Partials arrive by structured clone (typed arrays and Maps survive it as they are).
@@ -230,6 +297,7 @@ export async function runInWorkers(
     merged = merged.map((m, k) => passes[k].merge(m, next[k]));
   }
   const r0 = replies[0];
+  const lastIndex = replies[replies.length - 1].lastIndex!;
   return {
     ctx: {
       topology: r0.topology as TrajectoryRun['ctx']['topology'],
@@ -241,7 +309,9 @@ export async function runInWorkers(
     framesUsed: replies.reduce((s, r) => s + (r.framesUsed ?? 0), 0),
     firstIndex: r0.firstIndex!,
     lastIndex: replies[replies.length - 1].lastIndex!,
-    input: { ...r0.input!, frames: total },
+    // Frames seen, as a read on one thread counts them: it stops after the last used frame when
+    // the next one in the range would be at or past the range's end, else reads the whole file.
+    input: { ...r0.input!, frames: lastIndex + stride >= userTo ? lastIndex + 1 : total },
   };
 }
 
