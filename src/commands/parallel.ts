@@ -7,7 +7,7 @@
  */
 import { Worker, isMainThread, parentPort } from 'node:worker_threads';
 import { availableParallelism } from 'node:os';
-import { readFile } from 'node:fs/promises';
+import { readFile, open } from 'node:fs/promises';
 import { fileURLToPath } from 'node:url';
 import { existsSync } from 'node:fs';
 import type { Pass, Warnings } from '../types.js';
@@ -182,6 +182,18 @@ interface WorkerReply {
   warnings?: string[];
 }
 
+/** True when the file starts with the gzip magic bytes 0x1f 0x8b (RFC 1952 §2.3.1). */
+async function isGzipFile(path: string): Promise<boolean> {
+  const fh = await open(path, 'r');
+  try {
+    const buf = Buffer.alloc(2);
+    const { bytesRead } = await fh.read(buf, 0, 2, 0);
+    return bytesRead === 2 && buf[0] === 0x1f && buf[1] === 0x8b;
+  } finally {
+    await fh.close();
+  }
+}
+
 /** Path of the compiled worker entry (workers need JavaScript; absent when running from sources). */
 function workerScript(): string | null {
   const here = fileURLToPath(import.meta.url);
@@ -209,6 +221,9 @@ export async function runInWorkers(
   if (invocation.args[0] !== file) return null;
   const script = workerScript();
   if (!script) return null;
+  // A deflate stream cannot be entered in the middle, so every worker would inflate the file from
+  // its start: by default a gzipped input is read by one thread (an explicit --threads still splits).
+  if (threads === null && (await isGzipFile(file))) return null;
   const range = opts.frames;
   // Frame range requested by the user.
   let from = 0, to = Infinity, stride = 1;
