@@ -856,6 +856,13 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   // min(n, 2^21) samples: first up to 2^13 lags (cheap), then 8× longer while it has not
   // crossed zero, up to 1/20 of that stretch. It only sets the default segment count and flags.
   if (n < 200) throw new AnalysisError(`only ${n} pressure samples: far too few for a viscosity`);
+  // A shear stress that never fluctuates has no Green–Kubo integral: say so instead of 0/0.
+  const flat = components.every((c) => {
+    const v = c.values;
+    for (let i = 1; i < v.length; i++) if (v[i] !== v[0]) return false;
+    return true;
+  });
+  if (flat) throw new AnalysisError('the shear-stress components are constant: no fluctuations, so no Green–Kubo viscosity (check the columns and the table)');
   const probeLength = Math.min(n, 1 << 21);
   const probeCap = Math.max(16, Math.floor(probeLength / 20));
   let probeLag = Math.min(probeCap, 1 << 13);

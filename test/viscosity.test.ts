@@ -477,3 +477,15 @@ describe('command line: sojourn viscosity and sojourn stokes', () => {
     expect((await run(['stokes', '--viscosity', '1cP', '--temperature', '300K'])).code).toBe(2);
   });
 });
+
+describe('constant stress', () => {
+  it('is refused with a clear message instead of a NaN viscosity', async () => {
+    // A constant P_xy has zero autocorrelation, so η = V/(k_BT)·∫0 dt is undefined as a
+    // fluctuation result (common practice, no source): the analysis must refuse it.
+    const { analyseViscosity } = await import('../analyses/viscosity.js');
+    const values = new Float64Array(5000).fill(3.5);
+    expect(() =>
+      analyseViscosity({ components: [{ name: 'xy', values }], dt: 0.002, volumeA3: 27000, temperatureK: 300, pascalPerUnit: 1e5 } as never),
+    ).toThrow(/constant: no fluctuations/);
+  });
+});
