@@ -184,11 +184,18 @@ interface WorkerReply {
 
 /** True when the file starts with the gzip magic bytes 0x1f 0x8b (RFC 1952 §2.3.1). */
 async function isGzipFile(path: string): Promise<boolean> {
-  const fh = await open(path, 'r');
+  let fh;
+  try {
+    fh = await open(path, 'r');
+  } catch {
+    return false; // the reader reports a missing or unreadable file with its own message
+  }
   try {
     const buf = Buffer.alloc(2);
     const { bytesRead } = await fh.read(buf, 0, 2, 0);
     return bytesRead === 2 && buf[0] === 0x1f && buf[1] === 0x8b;
+  } catch {
+    return false; // e.g. a folder: the reader names the problem
   } finally {
     await fh.close();
   }
