@@ -201,7 +201,7 @@ describe('usage errors: exit 2, nothing on stdout', () => {
     ['frame interval not finite', ['inspect', 'good.xyz', '--frame-interval', '1e999ps'], /not a finite number/],
     ['bad frame range', ['inspect', 'good.xyz', '--frames', '5:2'], /empty range/],
     ['bad thread count', ['inspect', 'good.xyz', '--threads', '0'], /--threads/],
-    ['format not offered', ['inspect', 'good.xyz', '--format', 'dcd'], /argument 'dcd' is invalid/],
+    ['format not offered', ['inspect', 'good.xyz', '--format', 'binary'], /argument 'binary' is invalid/],
     ['bad selection (empty value)', ['rdf', 'good.xyz', '--pair', 'el=:Cl'], /needs a value/],
     ['bad selection (unknown key)', ['rdf', 'good.xyz', '--pair', 'colour=red:Cl'], /unknown key/],
     ['selection that picks no atoms', ['rdf', 'good.xyz', '--pair', 'Ar:Cl'], /picks no atoms/],
