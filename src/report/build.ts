@@ -759,7 +759,7 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
     const mPa = (a: ArrayLike<number>) => Array.from(a, (x) => x * 1e3);
     const fig = c.line('viscosity-green-kubo', 'viscosity', csv, {
       title: 'Green–Kubo running integral η(t)',
-      caption: `Running integral of the shear-stress autocorrelation, mean over ${v.segments} segments × ${v.components.length} components, band ±σ(t) (spread of one segment); dashed: fitted double exponential; the cut-off is where σ(t) exceeds ${Math.round(v.cutoffFraction * 100)} % of η(t)`,
+      caption: `Running integral of the shear-stress autocorrelation, mean over ${v.segments} segments × ${v.components.length} components, band ±σ(t) (spread of one segment); dashed: fitted ${v.fit.model}; the cut-off is where σ(t) exceeds ${Math.round(v.cutoffFraction * 100)} % of η(t)`,
       xLabel: 'lag time (ps)',
       yLabel: 'η(t) (mPa·s)',
       markers: {
@@ -770,7 +770,7 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
     }, [{
       name: 'η(t), mean of segments', x: ri.time, y: mPa(ri.eta), xCol: 'time_ps', yCol: 'eta_Pa_s',
       band: { lower: Array.from(ri.eta, (e, k) => (e - ri.sigma[k]) * 1e3), upper: Array.from(ri.eta, (e, k) => (e + ri.sigma[k]) * 1e3), label: '±σ(t)' },
-    }, { name: 'fitted double exponential', x: ri.time, y: mPa(ri.fit), xCol: 'time_ps', yCol: 'fit_Pa_s', dashed: true, markers: false }]);
+    }, { name: `fitted ${v.fit.model}`, x: ri.time, y: mPa(ri.fit), xCol: 'time_ps', yCol: 'fit_Pa_s', dashed: true, markers: false }]);
     const reasons = v.reasons.length ? v.reasons : [];
     summary.push({
       key: 'viscosity.greenKubo', quantity: 'shear viscosity η', value: Number.isFinite(v.viscosity.value) ? v.viscosity : null, scale: 1e3, unit: 'mPa·s',
