@@ -637,7 +637,10 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
     } else {
       blocksWanted = Math.min(p.frames, 4);
       blockRule = `${blocksWanted} blocks: too few frames (${p.frames} < 20) to measure a correlation time; blocks assumed independent`;
-      if (p.frames >= 2) notes.push(`only ${p.frames} frames: blocks assumed independent, error bars are rough`);
+      // Without a measurable correlation time the block errors cannot be defended (a crystal or
+      // a frozen system gives a spurious ± 0): report the curve but not as converged.
+      notes.push(`only ${p.frames} frame(s): no correlation time can be measured, so the block error bars are not defensible`);
+      converged = false;
     }
     const plan = groupContiguous(p.chunks.map((c) => c.frames), Math.max(1, Math.min(blocksWanted, p.chunks.length)));
     const blockChunks: RdfChunk[][] = Array.from({ length: plan.count }, () => []);

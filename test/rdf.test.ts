@@ -180,6 +180,14 @@ describe('ideal gas: g(r) = 1 within binomial noise', () => {
     expect(Math.abs(nLast / ((n - 1) * (4 * Math.PI / 3) * R ** 3 / L ** 3) - 1)).toBeLessThan(3.1e-3);
   });
 
+  it('fewer than 20 frames: no correlation time, so the result is not called converged', () => {
+    // A block standard error needs blocks longer than the correlation time, which cannot be
+    // measured from a handful of frames (Flyvbjerg & Petersen, J. Chem. Phys. 91, 461 (1989)).
+    const { result } = runPass(baseSpec([{ a: 'all', b: 'all' }]), fr.slice(0, 3), topo);
+    expect(result.pairs[0].converged).toBe(false);
+    expect(result.pairs[0].notes.join(' ')).toMatch(/no correlation time can be measured/);
+  });
+
   it('error bars from blocks match the binomial SD of g', () => {
     // With independent frames the block SE of g_k estimates the binomial SD above. Each bin's SE
     // has a relative error 1/√(2(B−1)) ≈ 24 % for B = 10; the median ratio over ~170 bins is then
