@@ -11,22 +11,11 @@ import { gzipSync } from 'node:zlib';
 import { fastFloat, findNewline } from '../readers/lines.js';
 import { readTable } from '../readers/index.js';
 import { InputError } from '../src/errors.js';
-import { rejectsWith, tempDir } from './readers-helpers.js';
+import { rejectsWith, tempDir, generator } from './readers-helpers.js';
 
 const tmp = tempDir('bulk');
 afterAll(() => tmp.cleanup());
 
-function generator(seed: number): () => number {
-  let s = seed >>> 0 || 1;
-  return () => {
-    s ^= s << 13;
-    s >>>= 0;
-    s ^= s >>> 17;
-    s ^= s << 5;
-    s >>>= 0;
-    return s / 4294967296;
-  };
-}
 
 describe('findNewline', () => {
   it('finds the same positions as String.prototype.indexOf, from every start', () => {

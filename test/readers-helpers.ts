@@ -80,3 +80,16 @@ export async function rejectsWith(p: Promise<unknown>, cls: new (...a: never[]) 
   }
   return err;
 }
+
+/** Deterministic pseudo-random numbers in [0, 1) (Marsaglia's xorshift32, J. Stat. Softw. 8(14), 2003) for generated test files. */
+export function generator(seed: number): () => number {
+  let s = seed >>> 0 || 1;
+  return () => {
+    s ^= s << 13;
+    s >>>= 0;
+    s ^= s >>> 17;
+    s ^= s << 5;
+    s >>>= 0;
+    return s / 4294967296;
+  };
+}

@@ -14,23 +14,11 @@ import { gzipSync } from 'node:zlib';
 import { openTrajectory, type FrameSelection } from '../readers/index.js';
 import { indexFrames } from '../readers/scan.js';
 import { InputError } from '../src/errors.js';
-import { copyFrame, rejectsWith, tempDir, type FrameCopy } from './readers-helpers.js';
+import { copyFrame, rejectsWith, tempDir, type FrameCopy, generator } from './readers-helpers.js';
 
 const tmp = tempDir('range');
 afterAll(() => tmp.cleanup());
 
-/** Deterministic pseudo-random numbers (xorshift32), printed like an MD writer would. */
-function generator(seed: number): () => number {
-  let s = seed >>> 0 || 1;
-  return () => {
-    s ^= s << 13;
-    s >>>= 0;
-    s ^= s >>> 17;
-    s ^= s << 5;
-    s >>>= 0;
-    return s / 4294967296;
-  };
-}
 
 interface Built {
   text: string;

@@ -15,7 +15,7 @@ import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { gzipSync } from 'node:zlib';
 import { compiledReaders, type CompiledReaders } from './compiled-readers.js';
-import { tempDir } from './readers-helpers.js';
+import { tempDir, generator } from './readers-helpers.js';
 
 const tmp = tempDir('thread');
 let lib: CompiledReaders;
@@ -27,17 +27,6 @@ afterAll(() => {
   lib?.cleanup();
 });
 
-function generator(seed: number): () => number {
-  let s = seed >>> 0 || 1;
-  return () => {
-    s ^= s << 13;
-    s >>>= 0;
-    s ^= s >>> 17;
-    s ^= s << 5;
-    s >>>= 0;
-    return s / 4294967296;
-  };
-}
 
 /** A plain-XYZ trajectory; returns the text, each frame's coordinate strings and first line. */
 function build(nFrames: number, atoms: number) {

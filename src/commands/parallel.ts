@@ -16,6 +16,7 @@ import { decodePartial, decodeTopology, type PartialFile } from '../partials.js'
 import { indexFrames, type FrameIndex } from '../../readers/scan.js';
 import type { FrameSeed } from '../../readers/common.js';
 import type { TrajectoryOptions, TrajectoryRun } from './common.js';
+import { parseFrameRange } from '../runner.js';
 
 let invocation: { command: string; args: string[] } = { command: '', args: [] };
 
@@ -237,17 +238,10 @@ export async function runInWorkers(
   const release = (from: number) => {
     for (const w of pool.slice(from)) void w.terminate();
   };
-  const range = opts.frames;
-  // Frame range requested by the user.
-  let from = 0, to = Infinity, stride = 1;
-  if (range) {
-    const m = /^(\d*):(\d*)(?::(\d+))?$/.exec(range.trim());
-    if (m) {
-      from = m[1] === '' ? 0 : Number(m[1]);
-      to = m[2] === '' ? Infinity : Number(m[2]);
-      stride = m[3] === undefined ? 1 : Number(m[3]);
-    }
-  }
+  // Frame range requested by the user (already validated by runOnTrajectory).
+  const requested = opts.frames ? parseFrameRange(opts.frames) : { from: 0, to: Infinity, stride: 1 };
+  const { from, stride } = requested;
+  let to = requested.to;
   // One scan finds the frame starts (up to `to`) and hashes the file. Bad input: read on one
   // thread instead, which reports it exactly as a plain read does.
   let index: FrameIndex;
