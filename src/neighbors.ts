@@ -4,21 +4,25 @@
  *
  * Two search paths give bit-identical results:
  * - brute force: every pair of the two selections;
- * - linked cells in fractional coordinates (Allen & Tildesley, Computer Simulation of Liquids,
- *   2nd ed. 2017, §5.3): the cell is cut into n_k = ⌊m·w_k / r_max⌋ slabs along each cell vector
- *   (w_k = perpendicular width, m = the reach), so every sub-cell is at least r_max/m thick in
- *   every direction and two atoms closer than r_max lie in sub-cells at most m apart along each
- *   axis (|Δs_k| ≤ r / w_k < m/n_k). Reach m = 2 (search 5×5×5 sub-cells, 2.3× fewer candidate
- *   pairs than 3×3×3 cells of width r_max) when every axis then has ≥ 5 slabs; otherwise m = 1
- *   with ≥ 3 slabs per axis (⌊w_k/r_max⌋ cells, 27 neighbours); otherwise brute force. The
- *   2m+1 slabs searched along an axis are then distinct, so no pair is visited twice.
+ * - linked cells with per-atom windows, in fractional coordinates (after Allen & Tildesley,
+ *   Computer Simulation of Liquids, 2nd ed. 2017, §5.3): the cell is cut into columns, n_k =
+ *   ⌊m·w_k / r_max⌋ slabs along the first two cell vectors (w_k = perpendicular width, m = the
+ *   reach), so two atoms closer than r_max lie in columns at most m apart along each of those
+ *   axes; along the third axis a partner lies within |Δu| ≤ r_max/w_c, and in an orthorhombic
+ *   cell within √(r_max² − g²)/L_z where g is the gap to the neighbour column. Atoms are sorted by
+ *   column and thin slab, so each window is one or two runs of consecutive atoms. Reach m = 2
+ *   (5×5 columns of width ≥ r_max/2) when every axis has ≥ 5 slabs of r_max/2; otherwise m = 1
+ *   with ≥ 3 slabs of r_max per axis; otherwise brute force. The 2m+1 columns searched along an
+ *   axis are then distinct, and a window (at most 0.4 of the third axis) never covers a column
+ *   twice, so no pair is visited twice. 20 000 uniform atoms at r_max 10 Å: 2.1× fewer pairs
+ *   examined than 5×5×5 sub-cells (8.8 M against 18.7 M per frame; bench/rdf.ts).
  *
- * Both paths compute the distance of a pair with the same floating-point expression — the
- * minimum image by rounding (ties to even, see RND), d = Δ − L·rint(Δ/L) (orthorhombic,
- * Cartesian) or Δs − rint(Δs) followed by d = Δs·H (triclinic, fractional) — which is exact for
+ * Both paths compute the distance of a pair with the same floating-point expression from
+ * fractional coordinates s = r·H⁻¹ — the minimum image by rounding (ties to even, see RND),
+ * Δs − rint(Δs), then d = L∘Δs (orthorhombic) or d = Δs·H (triclinic) — which is exact for
  * r < half the smallest perpendicular width (src/cell.ts) and sign-symmetric, so a pair gets
  * the same r² whichever atom comes first; and one counting rule: bin k = ⌊√r² · (1/Δr)⌋, kept
- * when k < nbins. The cell list only decides which pairs are looked at, and the kernel form
+ * when k < nbins. The search only decides which pairs are looked at, and the kernel form
  * (with or without a branch, see DENSE_FRACTION) only how fast; the counts are the same.
  *
  * Counting convention: the histogram holds ordered pairs (i ∈ A, j ∈ B, j ≠ i). When A and B
@@ -34,10 +38,15 @@ import { perpendicularWidths } from './cell.js';
  * 1.5·2⁵²: for |v| < 2⁵¹, (v + RND) − RND is v rounded to the nearest integer, ties to even, in
  * IEEE 754 double arithmetic (the sum's unit in the last place is 1, so the addition rounds).
  * Several times faster than Math.round in V8's optimised code (about 7× in our measurements on
- * Node 20), and
- * symmetric: round(−v) = −round(v), which makes a pair's r² independent of its order.
+ * Node 20), and symmetric: round(−v) = −round(v), which makes a pair's r² independent of its order.
  */
 export const RND = 6755399441055744;
+/**
+ * The same constant for the kernels: V8 folds a module's private `const` into optimised code but
+ * reads an exported binding from its cell on every use, which cost ≈ 20 % of the kernels' speed
+ * in our measurements (Node 20, x86-64).
+ */
+const R = 6755399441055744;
 
 /** Which search the histogrammer uses: 'auto' follows planSearch (linked cells when they pay off). */
 export type SearchMethod = 'auto' | 'cells' | 'brute';
@@ -45,9 +54,8 @@ export type SearchMethod = 'auto' | 'cells' | 'brute';
 /** Hot-loop constants of one frame's cell. */
 interface Box {
   ortho: boolean;
-  /** Orthorhombic edge lengths and their inverses. */
+  /** Orthorhombic edge lengths. */
   lx: number; ly: number; lz: number;
-  ilx: number; ily: number; ilz: number;
   /** Full cell matrix (rows a, b, c) and its inverse. */
   h: Float64Array;
   inv: Float64Array;
@@ -55,42 +63,41 @@ interface Box {
 
 function boxOf(g: CellGeometry): Box {
   const h = g.h;
-  return {
-    ortho: g.orthorhombic,
-    lx: h[0], ly: h[4], lz: h[8],
-    ilx: 1 / h[0], ily: 1 / h[4], ilz: 1 / h[8],
-    h, inv: g.inv,
-  };
+  return { ortho: g.orthorhombic, lx: h[0], ly: h[4], lz: h[8], h, inv: g.inv };
 }
 
 // ---------------------------------------------------------------------------------------------
 // Kernels. Each adds 1 to hist[k], k = ⌊√r² · (1/Δr)⌋, for the pairs it examines; only bins
 // k < nbins are kept by the caller, and that is the one counting rule of both search paths.
 // "cross": i in [a0, a1) of the first arrays × j in [b0, b1) of the second; "self": i < j within
-// [a0, a1) of one set of arrays. Coordinates are Cartesian (orthorhombic) or fractional
-// (triclinic). No allocation; flat typed arrays.
+// [a0, a1) of one set of arrays. Coordinates are fractional, s = r·H⁻¹, for every cell; the
+// minimum image is Δs − rint(Δs), then d = L∘Δs (orthorhombic) or d = Δs·H (triclinic).
+// No allocation; flat typed arrays.
 // - sparse kernels skip pairs with r² ≥ cut2 (a prefilter set a hair above r²_max) before the
 //   square root: best when few examined pairs lie within r_max (a branch that is mostly not taken);
 // - dense kernels bin every pair without any branch (hist must hold every reachable bin): best
 //   when many do, where the unpredictable branch of the sparse form costs more than the root.
 // ---------------------------------------------------------------------------------------------
 
-/** Orthorhombic cross kernel, sparse (see above); minimum image d = Δ − L·rint(Δ/L). Returns pairs examined. */
+/**
+ * Orthorhombic cross kernel, sparse (see above): Δs −= rint(Δs), d = (L_x Δs, L_y Δt, L_z Δu),
+ * the minimum image of Allen & Tildesley, Computer Simulation of Liquids, 2nd ed. 2017, §1.6.
+ * Returns pairs examined.
+ */
 export function crossOrtho(
-  xa: Float64Array, ya: Float64Array, za: Float64Array, a0: number, a1: number,
-  xb: Float64Array, yb: Float64Array, zb: Float64Array, b0: number, b1: number,
-  lx: number, ly: number, lz: number, ilx: number, ily: number, ilz: number,
-  cut2: number, invBin: number, nbins: number, hist: Float64Array,
+  sa: Float64Array, ta: Float64Array, ua: Float64Array, a0: number, a1: number,
+  sb: Float64Array, tb: Float64Array, ub: Float64Array, b0: number, b1: number,
+  lx: number, ly: number, lz: number, cut2: number, invBin: number, nbins: number, hist: Float64Array,
 ): number {
   for (let i = a0; i < a1; i++) {
-    const xi = xa[i], yi = ya[i], zi = za[i];
+    const si = sa[i], ti = ta[i], ui = ua[i];
     for (let j = b0; j < b1; j++) {
-      let dx = xb[j] - xi;
-      let dy = yb[j] - yi;
-      let dz = zb[j] - zi;
-      dx -= lx * ((dx * ilx + RND) - RND);
-      dy -= ly * ((dy * ily + RND) - RND);
-      dz -= lz * ((dz * ilz + RND) - RND);
+      let dx = sb[j] - si;
+      let dy = tb[j] - ti;
+      let dz = ub[j] - ui;
+      dx = lx * (dx - ((dx + R) - R));
+      dy = ly * (dy - ((dy + R) - R));
+      dz = lz * (dz - ((dz + R) - R));
       const r2 = dx * dx + dy * dy + dz * dz;
       if (r2 < cut2) {
         const k = (Math.sqrt(r2) * invBin) | 0;
@@ -103,20 +110,19 @@ export function crossOrtho(
 
 /** Orthorhombic cross kernel, dense (no branch). Returns pairs examined. */
 export function crossOrthoDense(
-  xa: Float64Array, ya: Float64Array, za: Float64Array, a0: number, a1: number,
-  xb: Float64Array, yb: Float64Array, zb: Float64Array, b0: number, b1: number,
-  lx: number, ly: number, lz: number, ilx: number, ily: number, ilz: number,
-  invBin: number, hist: Float64Array,
+  sa: Float64Array, ta: Float64Array, ua: Float64Array, a0: number, a1: number,
+  sb: Float64Array, tb: Float64Array, ub: Float64Array, b0: number, b1: number,
+  lx: number, ly: number, lz: number, invBin: number, hist: Float64Array,
 ): number {
   for (let i = a0; i < a1; i++) {
-    const xi = xa[i], yi = ya[i], zi = za[i];
+    const si = sa[i], ti = ta[i], ui = ua[i];
     for (let j = b0; j < b1; j++) {
-      let dx = xb[j] - xi;
-      let dy = yb[j] - yi;
-      let dz = zb[j] - zi;
-      dx -= lx * ((dx * ilx + RND) - RND);
-      dy -= ly * ((dy * ily + RND) - RND);
-      dz -= lz * ((dz * ilz + RND) - RND);
+      let dx = sb[j] - si;
+      let dy = tb[j] - ti;
+      let dz = ub[j] - ui;
+      dx = lx * (dx - ((dx + R) - R));
+      dy = ly * (dy - ((dy + R) - R));
+      dz = lz * (dz - ((dz + R) - R));
       hist[(Math.sqrt(dx * dx + dy * dy + dz * dz) * invBin) | 0]++;
     }
   }
@@ -125,19 +131,18 @@ export function crossOrthoDense(
 
 /** Orthorhombic self kernel, sparse: as crossOrtho over the pairs i < j of [a0, a1). Returns pairs examined. */
 export function selfOrtho(
-  x: Float64Array, y: Float64Array, z: Float64Array, a0: number, a1: number,
-  lx: number, ly: number, lz: number, ilx: number, ily: number, ilz: number,
-  cut2: number, invBin: number, nbins: number, hist: Float64Array,
+  s: Float64Array, t: Float64Array, u: Float64Array, a0: number, a1: number,
+  lx: number, ly: number, lz: number, cut2: number, invBin: number, nbins: number, hist: Float64Array,
 ): number {
   for (let i = a0; i < a1; i++) {
-    const xi = x[i], yi = y[i], zi = z[i];
+    const si = s[i], ti = t[i], ui = u[i];
     for (let j = i + 1; j < a1; j++) {
-      let dx = x[j] - xi;
-      let dy = y[j] - yi;
-      let dz = z[j] - zi;
-      dx -= lx * ((dx * ilx + RND) - RND);
-      dy -= ly * ((dy * ily + RND) - RND);
-      dz -= lz * ((dz * ilz + RND) - RND);
+      let dx = s[j] - si;
+      let dy = t[j] - ti;
+      let dz = u[j] - ui;
+      dx = lx * (dx - ((dx + R) - R));
+      dy = ly * (dy - ((dy + R) - R));
+      dz = lz * (dz - ((dz + R) - R));
       const r2 = dx * dx + dy * dy + dz * dz;
       if (r2 < cut2) {
         const k = (Math.sqrt(r2) * invBin) | 0;
@@ -151,19 +156,18 @@ export function selfOrtho(
 
 /** Orthorhombic self kernel, dense (no branch). Returns pairs examined. */
 export function selfOrthoDense(
-  x: Float64Array, y: Float64Array, z: Float64Array, a0: number, a1: number,
-  lx: number, ly: number, lz: number, ilx: number, ily: number, ilz: number,
-  invBin: number, hist: Float64Array,
+  s: Float64Array, t: Float64Array, u: Float64Array, a0: number, a1: number,
+  lx: number, ly: number, lz: number, invBin: number, hist: Float64Array,
 ): number {
   for (let i = a0; i < a1; i++) {
-    const xi = x[i], yi = y[i], zi = z[i];
+    const si = s[i], ti = t[i], ui = u[i];
     for (let j = i + 1; j < a1; j++) {
-      let dx = x[j] - xi;
-      let dy = y[j] - yi;
-      let dz = z[j] - zi;
-      dx -= lx * ((dx * ilx + RND) - RND);
-      dy -= ly * ((dy * ily + RND) - RND);
-      dz -= lz * ((dz * ilz + RND) - RND);
+      let dx = s[j] - si;
+      let dy = t[j] - ti;
+      let dz = u[j] - ui;
+      dx = lx * (dx - ((dx + R) - R));
+      dy = ly * (dy - ((dy + R) - R));
+      dz = lz * (dz - ((dz + R) - R));
       hist[(Math.sqrt(dx * dx + dy * dy + dz * dz) * invBin) | 0]++;
     }
   }
@@ -188,9 +192,9 @@ export function crossTriclinic(
       let ds = sb[j] - si;
       let dt = tb[j] - ti;
       let du = ub[j] - ui;
-      ds -= (ds + RND) - RND;
-      dt -= (dt + RND) - RND;
-      du -= (du + RND) - RND;
+      ds -= (ds + R) - R;
+      dt -= (dt + R) - R;
+      du -= (du + R) - R;
       const dx = ds * h0 + dt * h3 + du * h6;
       const dy = ds * h1 + dt * h4 + du * h7;
       const dz = ds * h2 + dt * h5 + du * h8;
@@ -217,9 +221,9 @@ export function crossTriclinicDense(
       let ds = sb[j] - si;
       let dt = tb[j] - ti;
       let du = ub[j] - ui;
-      ds -= (ds + RND) - RND;
-      dt -= (dt + RND) - RND;
-      du -= (du + RND) - RND;
+      ds -= (ds + R) - R;
+      dt -= (dt + R) - R;
+      du -= (du + R) - R;
       const dx = ds * h0 + dt * h3 + du * h6;
       const dy = ds * h1 + dt * h4 + du * h7;
       const dz = ds * h2 + dt * h5 + du * h8;
@@ -241,9 +245,9 @@ export function selfTriclinic(
       let ds = s[j] - si;
       let dt = t[j] - ti;
       let du = u[j] - ui;
-      ds -= (ds + RND) - RND;
-      dt -= (dt + RND) - RND;
-      du -= (du + RND) - RND;
+      ds -= (ds + R) - R;
+      dt -= (dt + R) - R;
+      du -= (du + R) - R;
       const dx = ds * h0 + dt * h3 + du * h6;
       const dy = ds * h1 + dt * h4 + du * h7;
       const dz = ds * h2 + dt * h5 + du * h8;
@@ -270,9 +274,9 @@ export function selfTriclinicDense(
       let ds = s[j] - si;
       let dt = t[j] - ti;
       let du = u[j] - ui;
-      ds -= (ds + RND) - RND;
-      dt -= (dt + RND) - RND;
-      du -= (du + RND) - RND;
+      ds -= (ds + R) - R;
+      dt -= (dt + R) - R;
+      du -= (du + R) - R;
       const dx = ds * h0 + dt * h3 + du * h6;
       const dy = ds * h1 + dt * h4 + du * h7;
       const dz = ds * h2 + dt * h5 + du * h8;
@@ -289,22 +293,19 @@ export function selfTriclinicDense(
  */
 function pairDistance2(box: Box, x: Float64Array, y: Float64Array, z: Float64Array, i: number,
   xb: Float64Array, yb: Float64Array, zb: Float64Array, j: number): number {
-  if (box.ortho) {
-    let dx = xb[j] - x[i];
-    let dy = yb[j] - y[i];
-    let dz = zb[j] - z[i];
-    dx -= box.lx * ((dx * box.ilx + RND) - RND);
-    dy -= box.ly * ((dy * box.ily + RND) - RND);
-    dz -= box.lz * ((dz * box.ilz + RND) - RND);
-    return dx * dx + dy * dy + dz * dz;
-  }
-  const h = box.h;
   let ds = xb[j] - x[i];
   let dt = yb[j] - y[i];
   let du = zb[j] - z[i];
-  ds -= (ds + RND) - RND;
-  dt -= (dt + RND) - RND;
-  du -= (du + RND) - RND;
+  if (box.ortho) {
+    ds = box.lx * (ds - ((ds + R) - R));
+    dt = box.ly * (dt - ((dt + R) - R));
+    du = box.lz * (du - ((du + R) - R));
+    return ds * ds + dt * dt + du * du;
+  }
+  const h = box.h;
+  ds -= (ds + R) - R;
+  dt -= (dt + R) - R;
+  du -= (du + R) - R;
   const dx = ds * h[0] + dt * h[3] + du * h[6];
   const dy = ds * h[1] + dt * h[4] + du * h[7];
   const dz = ds * h[2] + dt * h[5] + du * h[8];
@@ -355,20 +356,24 @@ class CellSort {
   x = new Float64Array(0);
   y = new Float64Array(0);
   z = new Float64Array(0);
+  /** The same coordinates reduced into [0, 1) (s − ⌊s⌋): for search windows, never for distances. */
+  rs = new Float64Array(0);
+  rt = new Float64Array(0);
+  ru = new Float64Array(0);
   order = new Int32Array(0);
   start = new Int32Array(0);
   private cellOf = new Int32Array(0);
   private cursor = new Int32Array(0);
 
   /**
-   * Counting sort of n points (coordinates cx, cy, cz; fractional fs, ft, fu) into the
-   * nx × ny × nz slabs of fractional space. start[c]..start[c+1] is cell c's range afterwards.
+   * Counting sort of n points (fractional coordinates fs, ft, fu) into the nx × ny × nz slabs of
+   * fractional space. start[c]..start[c+1] is cell c's range afterwards.
    */
-  sort(cx: Float64Array, cy: Float64Array, cz: Float64Array,
-    fs: Float64Array, ft: Float64Array, fu: Float64Array, n: number, nx: number, ny: number, nz: number): void {
+  sort(fs: Float64Array, ft: Float64Array, fu: Float64Array, n: number, nx: number, ny: number, nz: number): void {
     const cells = nx * ny * nz;
     if (this.x.length < n) {
       this.x = new Float64Array(n); this.y = new Float64Array(n); this.z = new Float64Array(n);
+      this.rs = new Float64Array(n); this.rt = new Float64Array(n); this.ru = new Float64Array(n);
       this.order = new Int32Array(n); this.cellOf = new Int32Array(n);
     }
     if (this.start.length < cells + 1) {
@@ -390,7 +395,9 @@ class CellSort {
     for (let i = 0; i < n; i++) {
       const p = cursor[cellOf[i]]++;
       fill[p] = i;
-      this.x[p] = cx[i]; this.y[p] = cy[i]; this.z[p] = cz[i];
+      const a = fs[i], b = ft[i], c = fu[i];
+      this.x[p] = a; this.y[p] = b; this.z[p] = c;
+      this.rs[p] = a - Math.floor(a); this.rt[p] = b - Math.floor(b); this.ru[p] = c - Math.floor(c);
     }
   }
 }
@@ -402,32 +409,40 @@ function slab(s: number, n: number): number {
   return k < 0 ? 0 : k >= n ? n - 1 : k;
 }
 
-/** All neighbour offsets within a reach m: (2m+1)³ triples in [−m, m]³. */
-function offsets(m: number): Array<[number, number, number]> {
-  const out: Array<[number, number, number]> = [];
-  for (let a = -m; a <= m; a++) for (let b = -m; b <= m; b++) for (let c = -m; c <= m; c++) out.push([a, b, c]);
+/** Column offsets (o_x, o_y) ∈ [−m, m]² of a reach m: (2m+1)² of them. */
+function columns(m: number): Array<[number, number]> {
+  const out: Array<[number, number]> = [];
+  for (let a = -m; a <= m; a++) for (let b = -m; b <= m; b++) out.push([a, b]);
   return out;
 }
-const FULL_SHELL: Record<1 | 2, Array<[number, number, number]>> = { 1: offsets(1), 2: offsets(2) };
-/** The "forward" half (lexicographically positive offsets): ((2m+1)³ − 1)/2 of them. */
-const HALF_SHELL: Record<1 | 2, Array<[number, number, number]>> = {
-  1: offsets(1).filter(([a, b, c]) => a > 0 || (a === 0 && (b > 0 || (b === 0 && c > 0)))),
-  2: offsets(2).filter(([a, b, c]) => a > 0 || (a === 0 && (b > 0 || (b === 0 && c > 0)))),
+const ALL_COLUMNS: Record<1 | 2, Array<[number, number]>> = { 1: columns(1), 2: columns(2) };
+/**
+ * The "forward" columns (o_x > 0, or o_x = 0 and o_y > 0): ((2m+1)² − 1)/2 of them. With the
+ * forward part of the home column (o_z = 1..m) they make the forward half shell, so that each
+ * unordered pair of distinct sub-cells is visited once.
+ */
+const FORWARD_COLUMNS: Record<1 | 2, Array<[number, number]>> = {
+  1: columns(1).filter(([a, b]) => a > 0 || (a === 0 && b > 0)),
+  2: columns(2).filter(([a, b]) => a > 0 || (a === 0 && b > 0)),
 };
 
 /**
- * Above this expected fraction of examined pairs within r_max the branch-free ("dense") kernels
- * are used. Measured on Node 20 / x86-64 (bench/rdf.ts and the same cases with the kernel
- * forced): the sparse form is ≈ 1.5× faster at 4 % inside and ≈ 1.3× at 22 %, the dense form
- * ≈ 2× faster at 52 % (brute force with r_max = half the cell).
+ * Brute force uses the branch-free ("dense") kernels above this expected fraction of examined
+ * pairs within r_max, the branching ("sparse") ones below. Measured on Node 20 / x86-64, 2 000
+ * uniform atoms (bench/rdf.ts cases with the kernel forced): sparse/dense 322/184 M pairs/s at
+ * 2.6 % inside, 198/183 at 11 %, 139/181 at 21 %, 79/182 at 52 %. The linked-cell search always
+ * uses the dense kernels: its windows leave ≥ 30 % of the examined pairs inside, where the
+ * branch is unpredictable (20 000 atoms, r_max 6/10/15 Å: dense 79/139/160 against sparse
+ * 64/109/139 M pairs/s).
  */
-export const DENSE_FRACTION = 0.3;
+export const DENSE_FRACTION = 0.12;
 
 /** Per-frame options of PairHistogram.addFrame (the counts never depend on them). */
 export interface FrameOptions {
   method?: SearchMethod;
-  /** Linked-cell reach (1: 3×3×3 cells of width ≥ r_max; 2: 5×5×5 of width ≥ r_max/2). */
+  /** Linked-cell reach (1: 3×3 columns of width ≥ r_max; 2: 5×5 of width ≥ r_max/2). */
   reach?: 1 | 2;
+  /** Kernel form of the brute-force search (the linked-cell search always uses the dense form). */
   kernel?: 'auto' | 'sparse' | 'dense';
 }
 
@@ -468,8 +483,6 @@ export class PairHistogram {
 
   private readonly a: Int32Array;
   private readonly b: Int32Array;
-  private readonly ax: Float64Array; private readonly ay: Float64Array; private readonly az: Float64Array;
-  private readonly bx: Float64Array; private readonly by: Float64Array; private readonly bz: Float64Array;
   private readonly fa: [Float64Array, Float64Array, Float64Array];
   private readonly fb: [Float64Array, Float64Array, Float64Array];
   /** Intra-molecular pairs as positions in the gathered A and B arrays. */
@@ -478,6 +491,8 @@ export class PairHistogram {
   private tmp: Float64Array;
   private readonly sortA = new CellSort();
   private readonly sortB = new CellSort();
+  /** Scratch: the runs of one atom's linked-cell windows. */
+  private runs = new Int32Array(0);
 
   constructor(a: Int32Array, b: Int32Array, nbins: number, binWidth: number, opts: PairHistogramOptions = {}) {
     if (!(nbins >= 1) || !(binWidth > 0)) throw new RangeError('PairHistogram: need nbins ≥ 1 and binWidth > 0');
@@ -520,14 +535,8 @@ export class PairHistogram {
     this.orderedPairs = this.same
       ? this.nA * (this.nA - 1) - this.intraOrdered
       : this.nA * this.nB - this.overlap - this.intraOrdered;
-    this.ax = new Float64Array(this.nA); this.ay = new Float64Array(this.nA); this.az = new Float64Array(this.nA);
     this.fa = [new Float64Array(this.nA), new Float64Array(this.nA), new Float64Array(this.nA)];
-    if (this.same) {
-      this.bx = this.ax; this.by = this.ay; this.bz = this.az; this.fb = this.fa;
-    } else {
-      this.bx = new Float64Array(this.nB); this.by = new Float64Array(this.nB); this.bz = new Float64Array(this.nB);
-      this.fb = [new Float64Array(this.nB), new Float64Array(this.nB), new Float64Array(this.nB)];
-    }
+    this.fb = this.same ? this.fa : [new Float64Array(this.nB), new Float64Array(this.nB), new Float64Array(this.nB)];
     this.tmp = new Float64Array(nbins);
   }
 
@@ -557,11 +566,11 @@ export class PairHistogram {
       if (!grid.every((x) => x >= 2 * m + 1)) throw new RangeError(`cell search with reach ${m} needs at least ${2 * m + 1} cells along each axis`);
       plan = { method: 'cells', reach: m, grid };
     }
-    // Fraction of examined pairs expected within r_max (uniform density): sphere over the
-    // volume searched per atom — the cell, or (2m+1)³ sub-cells.
+    // Kernel form (DENSE_FRACTION): brute force by the fraction of pairs expected within r_max
+    // at uniform density (sphere over cell volume); the linked-cell windows always dense.
     const sphere = (4 * Math.PI / 3) * this.rMax ** 3;
-    const searched = plan.method === 'brute' ? g.volume : ((2 * plan.reach + 1) ** 3 * g.volume) / (plan.grid[0] * plan.grid[1] * plan.grid[2]);
-    const dense = opts.kernel === 'dense' || (opts.kernel !== 'sparse' && sphere / searched > DENSE_FRACTION);
+    const auto = plan.method === 'cells' || sphere / g.volume > DENSE_FRACTION;
+    const dense = plan.method === 'cells' || opts.kernel === 'dense' || (opts.kernel !== 'sparse' && auto);
     this.lastMethod = plan.method;
     this.lastReach = plan.reach;
     this.lastKernel = dense ? 'dense' : 'sparse';
@@ -575,12 +584,12 @@ export class PairHistogram {
     const tmp = this.tmp;
     tmp.fill(0, 0, Math.max(reachBins, this.nbins));
     if (plan.method === 'brute') this.brute(box, tmp, dense);
-    else this.cells(box, plan, tmp, dense);
+    else this.cells(box, plan, tmp);
     // Self-pairs (r = 0 exactly) of overlapping selections.
     if (!this.same && this.overlap > 0) tmp[0] -= this.overlap;
     // Same-molecule pairs, distance and bin by the kernels' own expressions.
-    const [cx, cy, cz] = box.ortho ? [this.ax, this.ay, this.az] : this.fa;
-    const [dx, dy, dz] = box.ortho ? [this.bx, this.by, this.bz] : this.fb;
+    const [cx, cy, cz] = this.fa;
+    const [dx, dy, dz] = this.fb;
     const cut2 = this.cut2();
     const invBin = 1 / this.binWidth;
     for (let k = 0; k < this.intraA.length; k++) {
@@ -600,22 +609,21 @@ export class PairHistogram {
     return c * c;
   }
 
-  /** Copy the selected coordinates (Cartesian for orthorhombic, and fractional always). */
+  /** Copy the selected atoms' fractional coordinates s = r·H⁻¹ (the kernels' coordinates for every cell). */
   private gather(pos: Float64Array, box: Box): void {
     const v = box.inv;
-    const fill = (idx: Int32Array, x: Float64Array, y: Float64Array, z: Float64Array, f: [Float64Array, Float64Array, Float64Array]) => {
+    const fill = (idx: Int32Array, f: [Float64Array, Float64Array, Float64Array]) => {
       const [s, t, u] = f;
       for (let k = 0; k < idx.length; k++) {
         const o = 3 * idx[k];
         const px = pos[o], py = pos[o + 1], pz = pos[o + 2];
-        x[k] = px; y[k] = py; z[k] = pz;
         s[k] = px * v[0] + py * v[3] + pz * v[6];
         t[k] = px * v[1] + py * v[4] + pz * v[7];
         u[k] = px * v[2] + py * v[5] + pz * v[8];
       }
     };
-    fill(this.a, this.ax, this.ay, this.az, this.fa);
-    if (!this.same) fill(this.b, this.bx, this.by, this.bz, this.fb);
+    fill(this.a, this.fa);
+    if (!this.same) fill(this.b, this.fb);
   }
 
   /** One block of pairs through the right kernel: [a0, a1) × [b0, b1), or i < j in [a0, a1) when self. */
@@ -626,15 +634,15 @@ export class PairHistogram {
   ): number {
     const cut2 = this.cut2(), invBin = 1 / this.binWidth, nb = this.nbins;
     if (box.ortho) {
-      const { lx, ly, lz, ilx, ily, ilz } = box;
+      const { lx, ly, lz } = box;
       if (self) {
         return dense
-          ? selfOrthoDense(xa, ya, za, a0, a1, lx, ly, lz, ilx, ily, ilz, invBin, hist)
-          : selfOrtho(xa, ya, za, a0, a1, lx, ly, lz, ilx, ily, ilz, cut2, invBin, nb, hist);
+          ? selfOrthoDense(xa, ya, za, a0, a1, lx, ly, lz, invBin, hist)
+          : selfOrtho(xa, ya, za, a0, a1, lx, ly, lz, cut2, invBin, nb, hist);
       }
       return dense
-        ? crossOrthoDense(xa, ya, za, a0, a1, xb, yb, zb, b0, b1, lx, ly, lz, ilx, ily, ilz, invBin, hist)
-        : crossOrtho(xa, ya, za, a0, a1, xb, yb, zb, b0, b1, lx, ly, lz, ilx, ily, ilz, cut2, invBin, nb, hist);
+        ? crossOrthoDense(xa, ya, za, a0, a1, xb, yb, zb, b0, b1, lx, ly, lz, invBin, hist)
+        : crossOrtho(xa, ya, za, a0, a1, xb, yb, zb, b0, b1, lx, ly, lz, cut2, invBin, nb, hist);
     }
     const h = box.h;
     if (self) {
@@ -648,53 +656,135 @@ export class PairHistogram {
   }
 
   private brute(box: Box, hist: Float64Array, dense: boolean): void {
-    const [xa, ya, za] = box.ortho ? [this.ax, this.ay, this.az] : this.fa;
-    const [xb, yb, zb] = box.ortho ? [this.bx, this.by, this.bz] : this.fb;
+    const [xa, ya, za] = this.fa;
+    const [xb, yb, zb] = this.fb;
     this.pairsExamined += this.same
       ? this.kernel(box, dense, true, xa, ya, za, 0, this.nA, xa, ya, za, 0, this.nA, hist)
       : this.kernel(box, dense, false, xa, ya, za, 0, this.nA, xb, yb, zb, 0, this.nB, hist);
   }
 
-  private cells(box: Box, plan: SearchPlan, hist: Float64Array, dense: boolean): void {
-    const [nx, ny, nz] = plan.grid;
-    const half = HALF_SHELL[plan.reach];
-    const full = FULL_SHELL[plan.reach];
+  /**
+   * Linked-cell search with per-atom windows. Atoms are sorted into columns (n_a × n_b slabs
+   * along the first two cell vectors, each at least r_max/m wide, as planned) and, inside a
+   * column, into n_f thin slabs along the third (thickness ≤ r_max/8). A partner of atom i within
+   * r_max lies in one of the (2m+1)² neighbour columns (the linked-cell argument of Allen &
+   * Tildesley 2017 §5.3 applied to two axes) and within |Δu| ≤ r_max/w_c of it along the third
+   * axis (w_c = perpendicular width: the distance from the a–b plane is |Δu|·w_c). So for each
+   * atom and neighbour column only the thin slabs of that window are examined (one or two runs
+   * of consecutive atoms). In an orthorhombic cell the window is narrowed further to
+   * √(r_max² − g_x² − g_y²)/L_z, g the gap between the atom and the neighbour column, so the
+   * examined volume follows the sphere instead of a box. With A = B each unordered pair is
+   * examined once: forward columns only (HALF of the stencil), and within the atom's own column
+   * only partners later in the sorted order. Windows are widened by a relative 1e-7 (and the
+   * gaps narrowed by 1e-12 of a cell edge) so round-off can never drop a pair; the windows only
+   * choose which pairs are examined, the kernels' expression and counting rule decide.
+   */
+  private cells(box: Box, plan: SearchPlan, hist: Float64Array): void {
+    const [nx, ny] = plan.grid;
+    const m = plan.reach;
+    const w = perpendicularWidths(box.h);
+    // Thin slabs along the third axis: thickness ≥ r_max/8. plan.grid[2] ≥ 2m+1 gives
+    // w_c ≥ (2m+1)·r_max/m, so the window half-width h ≤ m/(2m+1) ≤ 0.4 and nf ≥ 20: a window
+    // (2h plus one thin slab at each end) never covers a column twice.
+    const nf = Math.max(20, Math.floor(((8 * w[2]) / this.rMax) * (1 - 1e-9)));
     const A = this.sortA;
     const [fs, ft, fu] = this.fa;
-    // Coordinates the kernels use: Cartesian (orthorhombic) or fractional (triclinic).
-    if (box.ortho) A.sort(this.ax, this.ay, this.az, fs, ft, fu, this.nA, nx, ny, nz);
-    else A.sort(fs, ft, fu, fs, ft, fu, this.nA, nx, ny, nz);
+    A.sort(fs, ft, fu, this.nA, nx, ny, nf);
     let B = A;
     if (!this.same) {
       B = this.sortB;
       const [gs, gt, gu] = this.fb;
-      if (box.ortho) B.sort(this.bx, this.by, this.bz, gs, gt, gu, this.nB, nx, ny, nz);
-      else B.sort(gs, gt, gu, gs, gt, gu, this.nB, nx, ny, nz);
+      B.sort(gs, gt, gu, this.nB, nx, ny, nf);
     }
-    let examined = 0;
-    // n ≥ 2m+1 > m, so a single fold brings k ∈ [−m, n−1+m] back into [0, n).
-    const wrap = (k: number, n: number) => (k < 0 ? k + n : k >= n ? k - n : k);
-    for (let cxi = 0; cxi < nx; cxi++) for (let cyi = 0; cyi < ny; cyi++) for (let czi = 0; czi < nz; czi++) {
-      const c = (cxi * ny + cyi) * nz + czi;
-      const a0 = A.start[c], a1 = A.start[c + 1];
-      if (a0 === a1) continue;
-      if (this.same) {
-        examined += this.kernel(box, dense, true, A.x, A.y, A.z, a0, a1, A.x, A.y, A.z, a0, a1, hist);
-        for (const [ox, oy, oz] of half) {
-          const d = (wrap(cxi + ox, nx) * ny + wrap(cyi + oy, ny)) * nz + wrap(czi + oz, nz);
-          const b0 = A.start[d], b1 = A.start[d + 1];
-          if (b0 !== b1) examined += this.kernel(box, dense, false, A.x, A.y, A.z, a0, a1, A.x, A.y, A.z, b0, b1, hist);
-        }
-      } else {
-        for (const [ox, oy, oz] of full) {
-          const d = (wrap(cxi + ox, nx) * ny + wrap(cyi + oy, ny)) * nz + wrap(czi + oz, nz);
-          const b0 = B.start[d], b1 = B.start[d + 1];
-          if (b0 !== b1) examined += this.kernel(box, dense, false, A.x, A.y, A.z, a0, a1, B.x, B.y, B.z, b0, b1, hist);
+    const cols = this.same ? FORWARD_COLUMNS[m] : ALL_COLUMNS[m];
+    const maxRuns = 2 * cols.length + 2;
+    if (this.runs.length < 2 * maxRuns) this.runs = new Int32Array(2 * maxRuns);
+    this.pairsExamined += scanColumns(
+      box, A, B, this.same, nx, ny, nf, m, cols, this.rMax * (1 + 1e-7), w[2], 1 / this.binWidth, hist, this.runs,
+    );
+  }
+}
+
+/**
+ * The per-atom window scan of PairHistogram's linked-cell search (see its `cells` method):
+ * for each atom of A, collect the runs of B's sorted atoms that can hold a partner within rc,
+ * then bin each run with the dense cross kernels (one call per run: measured faster than one
+ * kernel looping over all the runs, 59 against 78 ms per frame for 20 000 atoms, r_max 10 Å).
+ * Returns pairs examined.
+ */
+function scanColumns(
+  box: Box, A: CellSort, B: CellSort, same: boolean, nx: number, ny: number, nf: number, m: number,
+  cols: Array<[number, number]>, rc: number, wc: number, invBin: number, hist: Float64Array, runs: Int32Array,
+): number {
+  const aStart = A.start, bStart = B.start;
+  const AX = A.x, AY = A.y, AZ = A.z, ARS = A.rs, ART = A.rt, ARU = A.ru;
+  const BX = B.x, BY = B.y, BZ = B.z;
+  const ortho = box.ortho, lx = box.lx, ly = box.ly, lz = box.lz, h = box.h;
+  const rc2 = rc * rc;
+  const hFull = rc / wc;
+  const inx = 1 / nx, iny = 1 / ny, ilz = 1 / lz;
+  // Squared gaps (Å²) between the atom and the neighbour columns at offsets −m..m along a and b.
+  const gx2 = new Float64Array(2 * m + 1), gy2 = new Float64Array(2 * m + 1);
+  const colX = Int32Array.from(cols, (c) => c[0]), colY = Int32Array.from(cols, (c) => c[1]);
+  const nc = cols.length;
+  let examined = 0;
+  for (let cx = 0; cx < nx; cx++) for (let cy = 0; cy < ny; cy++) {
+    const home = (cx * ny + cy) * nf;
+    const p0 = aStart[home], p1 = aStart[home + nf];
+    for (let p = p0; p < p1; p++) {
+      const u = ARU[p];
+      let r = 0;
+      if (same) {
+        // Own column, partners later in the sorted order with u' ≤ u + h (wrapping past 1).
+        const hi = u + hFull;
+        if (hi < 1) {
+          runs[r++] = p + 1; runs[r++] = bStart[home + fineSlab(hi, nf) + 1];
+        } else {
+          runs[r++] = p + 1; runs[r++] = p1;
+          runs[r++] = p0; runs[r++] = bStart[home + fineSlab(hi - 1, nf) + 1];
         }
       }
+      const s = ARS[p], t = ART[p];
+      for (let k = 0; k < nc; k++) {
+        const ox = colX[k], oy = colY[k];
+        let hw = hFull;
+        if (ortho) {
+          const gs = Math.max(0, (cx + ox) * inx - s, s - (cx + ox + 1) * inx) - 1e-12;
+          const gt = Math.max(0, (cy + oy) * iny - t, t - (cy + oy + 1) * iny) - 1e-12;
+          const gx = gs > 0 ? gs * lx : 0, gy = gt > 0 ? gt * ly : 0;
+          const rem = rc2 - gx * gx - gy * gy;
+          if (rem <= 0) continue;
+          hw = Math.sqrt(rem) * ilz * (1 + 1e-7);
+        }
+        let ax = cx + ox, ay = cy + oy;
+        ax = ax < 0 ? ax + nx : ax >= nx ? ax - nx : ax;
+        ay = ay < 0 ? ay + ny : ay >= ny ? ay - ny : ay;
+        const base = (ax * ny + ay) * nf;
+        const lo = u - hw, hi = u + hw;
+        if (lo < 0) {
+          runs[r++] = bStart[base + fineSlab(lo + 1, nf)]; runs[r++] = bStart[base + nf];
+          runs[r++] = bStart[base]; runs[r++] = bStart[base + fineSlab(hi, nf) + 1];
+        } else if (hi >= 1) {
+          runs[r++] = bStart[base + fineSlab(lo, nf)]; runs[r++] = bStart[base + nf];
+          runs[r++] = bStart[base]; runs[r++] = bStart[base + fineSlab(hi - 1, nf) + 1];
+        } else {
+          runs[r++] = bStart[base + fineSlab(lo, nf)]; runs[r++] = bStart[base + fineSlab(hi, nf) + 1];
+        }
+      }
+      for (let q = 0; q < r; q += 2) {
+        examined += ortho
+          ? crossOrthoDense(AX, AY, AZ, p, p + 1, BX, BY, BZ, runs[q], runs[q + 1], lx, ly, lz, invBin, hist)
+          : crossTriclinicDense(AX, AY, AZ, p, p + 1, BX, BY, BZ, runs[q], runs[q + 1], h, invBin, hist);
+      }
     }
-    this.pairsExamined += examined;
   }
+  return examined;
+}
+
+/** Thin-slab index ⌊v·n⌋ of a reduced coordinate v, clamped to [0, n−1]. */
+function fineSlab(v: number, n: number): number {
+  const k = Math.floor(v * n);
+  return k < 0 ? 0 : k >= n ? n - 1 : k;
 }
 
 /**

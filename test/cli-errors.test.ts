@@ -131,6 +131,10 @@ describe('bad input: exit 1, file:line on stderr, nothing on stdout', () => {
   ];
   const workersText = xyz(12).replace(/Cl 1\.510 1\.000 2\.000/, 'Cl 1.510 1.000 2.0.0');
   const workersBad = workersText.split('\n').findIndex((l) => l.includes('2.0.0')) + 1;
+  // The same fault in the last frame: with 2 threads frame 1 is in this thread's share, frame 11
+  // in the worker's, so both error paths are exercised.
+  const lateText = xyz(12).replace(/Cl 1\.610 1\.000 2\.000/, 'Cl 1.610 1.000 2.0.0');
+  const lateBad = lateText.split('\n').findIndex((l) => l.includes('2.0.0')) + 1;
   const tables: { name: string; content: string; line: number | null; message: RegExp }[] = [
     { name: 'table time column that does not increase', content: 'time pxy\n0.0 1.5\n1.0 2.5\n1.0 3.5\n', line: 4, message: /not greater than the previous row's time/ },
     { name: 'table row with a missing column', content: 'time pxy\n0.0 1.5\n1.0\n', line: 3, message: /expected column 2/ },
@@ -144,6 +148,7 @@ describe('bad input: exit 1, file:line on stderr, nothing on stdout', () => {
     { name: 'missing file', args: ['inspect', 'nowhere.xyz'], inputs: () => [] },
     { name: 'folder', args: ['inspect', tmp.dir, '--format', 'xyz'], inputs: () => [] },
     { name: 'workers', args: ['inspect', 'workers.xyz', '--threads', '2'], inputs: () => [tmp.file('workers.xyz', workersText)] },
+    { name: 'workers-late', args: ['inspect', 'late.xyz', '--threads', '2'], inputs: () => [tmp.file('late.xyz', lateText)] },
   ]);
   for (const c of cases) {
     it(c.name, () => {
@@ -177,6 +182,10 @@ describe('bad input: exit 1, file:line on stderr, nothing on stdout', () => {
     const r = result('workers');
     expectFailure(r, ['workers'], 1);
     expect(r.stderr).toMatch(line('workers.xyz', workersBad));
+    expect(lateBad).toBeGreaterThan(11 * 4); // frame 11 (lines 45–48): the worker's share
+    const late = result('workers-late');
+    expectFailure(late, ['late.xyz'], 1);
+    expect(late.stderr).toMatch(line('late.xyz', lateBad));
   });
 
   it('the process exit status is the one main() returns (separate processes: 0, 1, 2)', () => {

@@ -6,14 +6,14 @@
 import { Command, Option } from 'commander';
 import cliProgress from 'cli-progress';
 import { openTrajectory } from '../../readers/index.js';
-import { runPasses, parseFrameRange, type RunOutput } from '../runner.js';
+import { runPasses, parseFrameRange, type FrameRange, type RunOutput } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
 import { checkOutputFile, envelope, toJson, writeFileAtomic, type InputRecord } from '../output.js';
 import { encodePartial, encodeTopology, type PartialFile } from '../partials.js';
 import { VERSION } from '../version.js';
-import { currentInvocation, mergeSource, runInWorkers, workerCapture, workerReadPlan } from './parallel.js';
+import { currentInvocation, mergeSource, runInWorkers, workerCapture, workerReadPlan, type WorkerReadPlan } from './parallel.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
 
 /** Options every trajectory command accepts. */
@@ -117,39 +117,53 @@ export async function runOnTrajectory(
   const threads = opts.threads === undefined ? null : Number(opts.threads);
   if (threads !== null && !(Number.isInteger(threads) && threads >= 1)) throw new UsageError(`--threads must be a whole number ≥ 1, got "${opts.threads}"`);
   let run: TrajectoryRun;
-  const parallel = workerCapture() === null ? await runInWorkers(file, opts, passes, warnings, threads) : null;
+  const local = (share: FrameRange | undefined, plan: WorkerReadPlan | null, into: Warnings, quiet: boolean | undefined) =>
+    readTrajectory(file, opts, passes, into, { frameInterval, cell, range: share, plan, quiet });
+  const parallel = workerCapture() === null ? await runInWorkers(file, opts, passes, warnings, threads, local) : null;
   if (parallel) run = parallel;
-  else {
-    // In a worker, the parent's plan says where the share starts and ends and gives the digest.
-    const plan = workerReadPlan(file);
-    const input = await openTrajectory(file, {
-      format: plan?.format ?? opts.format,
-      strict: !!opts.strict,
-      warnings,
-      ...(plan ? { hash: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
-    });
-    const progress = progressFor(file, opts.quiet);
-    let out: RunOutput;
-    try {
-      out = await runPasses(input, passes, { frameInterval, cell, range, warnings, masses: parseMasses(opts.masses), onFrame: progress.tick });
-    } finally {
-      progress.stop();
-    }
-    run = {
-      ...out,
-      input: {
-        path: file,
-        sha256: plan ? plan.sha256 : input.sha256(),
-        bytes: plan ? plan.bytes : input.rawBytes(),
-        format: input.format,
-        frames: input.framesComplete(),
-      },
-    };
-  }
+  // In a worker, the parent's plan says where the share starts and ends and gives the digest.
+  else run = await local(range, workerReadPlan(file), warnings, opts.quiet);
   const capture = workerCapture();
   if (capture) capture(run, passes);
   if (opts.partialOut) await writePartialFile(opts.partialOut, run, passes, warnings);
   return run;
+}
+
+/**
+ * One read of `file` (or of the share a read plan describes: byte offsets, carried state and the
+ * digest from the parent's frame index) through `passes`, frames restricted to `range`.
+ */
+export async function readTrajectory(
+  file: string,
+  opts: TrajectoryOptions,
+  passes: Pass[],
+  warnings: Warnings,
+  how: { frameInterval: number | null; cell: CellMatrix | null; range: FrameRange | undefined; plan: WorkerReadPlan | null; quiet: boolean | undefined },
+): Promise<TrajectoryRun> {
+  const { plan } = how;
+  const input = await openTrajectory(file, {
+    format: plan?.format ?? opts.format,
+    strict: !!opts.strict,
+    warnings,
+    ...(plan ? { hash: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
+  });
+  const progress = progressFor(file, how.quiet);
+  let out: RunOutput;
+  try {
+    out = await runPasses(input, passes, { frameInterval: how.frameInterval, cell: how.cell, range: how.range, warnings, masses: parseMasses(opts.masses), onFrame: progress.tick });
+  } finally {
+    progress.stop();
+  }
+  return {
+    ...out,
+    input: {
+      path: file,
+      sha256: plan ? plan.sha256 : input.sha256(),
+      bytes: plan ? plan.bytes : input.rawBytes(),
+      format: input.format,
+      frames: input.framesComplete(),
+    },
+  };
 }
 
 /** Write the partial results of a run (see src/partials.ts) atomically. */

@@ -16,7 +16,7 @@ import { decodePartial, decodeTopology, type PartialFile } from '../partials.js'
 import { indexFrames, type FrameIndex } from '../../readers/scan.js';
 import type { FrameSeed } from '../../readers/common.js';
 import type { TrajectoryOptions, TrajectoryRun } from './common.js';
-import { parseFrameRange } from '../runner.js';
+import { parseFrameRange, type FrameRange } from '../runner.js';
 
 let invocation: { command: string; args: string[] } = { command: '', args: [] };
 
@@ -210,10 +210,15 @@ function workerScript(): string | null {
   return existsSync(p) ? p : null;
 }
 
+/** Read a share of the trajectory on this thread (src/commands/common.ts readTrajectory). */
+export type LocalRead = (range: FrameRange, plan: WorkerReadPlan, warnings: Warnings, quiet: boolean) => Promise<TrajectoryRun>;
+
 /**
- * Run the current command on `threads` workers, each on a contiguous share of the frames, and
- * merge their partials in frame order. Returns null when workers are not used: one thread, stdin,
- * fewer than 2 frames per worker, or running from TypeScript sources.
+ * Run the current command on `threads` threads, each on a contiguous share of the frames, and
+ * merge their partials in frame order. This thread reads the first share itself (it has the
+ * command loaded already, and would otherwise sit idle on a machine whose cores the workers
+ * fill); threads − 1 workers take the others. Returns null when threads are not used: one
+ * thread, stdin, fewer than 2 frames per thread, or running from TypeScript sources.
  */
 export async function runInWorkers(
   file: string,
@@ -221,6 +226,7 @@ export async function runInWorkers(
   passes: Pass[],
   warnings: Warnings,
   threads: number | null,
+  local: LocalRead,
 ): Promise<TrajectoryRun | null> {
   const n = threads ?? availableParallelism();
   if (n <= 1 || file === '-' || !isMainThread) return null;
@@ -232,9 +238,9 @@ export async function runInWorkers(
   // A deflate stream cannot be entered in the middle, so every worker would inflate the file from
   // its start: by default a gzipped input is read by one thread (an explicit --threads still splits).
   if (threads === null && (await isGzipFile(file))) return null;
-  // Start the workers now: each spends ~0.3 s loading the CLI, which then overlaps the scan below.
+  // Start the workers now: each spends ~0.2 s loading the CLI, which then overlaps the scan below.
   // They wait for their share in a message; any not needed are terminated.
-  const pool: Worker[] = Array.from({ length: n }, () => new Worker(script, { workerData: null }));
+  const pool: Worker[] = Array.from({ length: n - 1 }, () => new Worker(script, { workerData: null }));
   const release = (from: number) => {
     for (const w of pool.slice(from)) void w.terminate();
   };
@@ -262,7 +268,7 @@ export async function runInWorkers(
   }
   const per = Math.ceil(used / n);
   const args = stripRangeOptions(invocation.args);
-  const jobs: Promise<WorkerReply>[] = [];
+  const jobs: Array<() => Promise<WorkerReply>> = [];
   for (let w = 0; w < n; w++) {
     const a = from + w * per * stride;
     const b = Math.min(to, from + (w + 1) * per * stride);
@@ -270,7 +276,6 @@ export async function runInWorkers(
     // The last share of a range open past the file's end reads to the end of the file, as one
     // read does (so a truncated last frame is reported the same way).
     const toEnd = b === to && userTo > total;
-    const argv = [invocation.command, ...args, '--frames', `${a}:${toEnd ? '' : b}:${stride}`, '--threads', '1', '--quiet'];
     const plan: WorkerReadPlan = { path: file, format: index.format, sha256: index.sha256, bytes: index.bytes };
     if (!index.compressed) {
       const s = index.start(a);
@@ -278,20 +283,37 @@ export async function runInWorkers(
       const e = toEnd ? null : index.start(b);
       if (e !== null) plan.end = e.offset;
     }
-    const worker = pool[w];
-    jobs.push(
-      new Promise<WorkerReply>((resolve, reject) => {
-        worker.once('message', (m: WorkerReply) => resolve(m));
-        worker.once('error', reject);
-        worker.once('exit', (code) => {
-          if (code !== 0) reject(new Error(`worker exited with status ${code}`));
-        });
-        worker.postMessage({ argv, plan });
-      }),
-    );
+    if (w === 0) {
+      // This thread's share, run after the workers have been sent theirs.
+      const range: FrameRange = { from: a, to: toEnd ? Infinity : b, stride };
+      jobs.push(async () => replyOf(await local(range, plan, [], true)));
+      continue;
+    }
+    const argv = [invocation.command, ...args, '--frames', `${a}:${toEnd ? '' : b}:${stride}`, '--threads', '1', '--quiet'];
+    const worker = pool[w - 1];
+    const reply = new Promise<WorkerReply>((resolve, reject) => {
+      worker.once('message', (m: WorkerReply) => resolve(m));
+      worker.once('error', reject);
+      worker.once('exit', (code) => {
+        if (code !== 0) reject(new Error(`worker exited with status ${code}`));
+      });
+      worker.postMessage({ argv, plan });
+    });
+    jobs.push(() => reply);
   }
-  release(jobs.length);
-  const replies = await Promise.all(jobs);
+  release(jobs.length - 1);
+  // Workers first (their messages are posted above), then this thread's own share.
+  const started = jobs.slice(1).map((j) => j());
+  let first: WorkerReply;
+  try {
+    first = await jobs[0]();
+  } catch (err) {
+    // This thread's share failed (bad input is reported as a plain read reports it): stop the rest.
+    for (const p of started) p.catch(() => {});
+    for (const w of pool) void w.terminate();
+    throw err;
+  }
+  const replies = [first, ...(await Promise.all(started))];
   for (const r of replies) {
     if (!r.ok) {
       const e = r.error!;
@@ -346,20 +368,24 @@ export async function runInWorkers(
 /** Worker side: install the capture that posts partials to the parent. */
 export function installWorkerCapture(): void {
   capture = (run) => {
-    const reply: WorkerReply = {
-      ok: true,
-      partials: run.partials,
-      firstIndex: run.firstIndex,
-      lastIndex: run.lastIndex,
-      framesUsed: run.framesUsed,
-      frameInterval: run.ctx.frameInterval,
-      firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
-      topology: run.ctx.topology,
-      input: run.input,
-      warnings: [...run.ctx.warnings],
-    };
-    parentPort!.postMessage(reply);
+    parentPort!.postMessage(replyOf(run));
     throw new PartialsHandedOver();
+  };
+}
+
+/** A share's outcome in the form the parent merges. */
+function replyOf(run: TrajectoryRun): WorkerReply {
+  return {
+    ok: true,
+    partials: run.partials,
+    firstIndex: run.firstIndex,
+    lastIndex: run.lastIndex,
+    framesUsed: run.framesUsed,
+    frameInterval: run.ctx.frameInterval,
+    firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
+    topology: run.ctx.topology,
+    input: run.input,
+    warnings: [...run.ctx.warnings],
   };
 }
 
