@@ -723,8 +723,6 @@ function scanColumns(
   const rc2 = rc * rc;
   const hFull = rc / wc;
   const inx = 1 / nx, iny = 1 / ny, ilz = 1 / lz;
-  // Squared gaps (Å²) between the atom and the neighbour columns at offsets −m..m along a and b.
-  const gx2 = new Float64Array(2 * m + 1), gy2 = new Float64Array(2 * m + 1);
   const colX = Int32Array.from(cols, (c) => c[0]), colY = Int32Array.from(cols, (c) => c[1]);
   const nc = cols.length;
   let examined = 0;

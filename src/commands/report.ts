@@ -34,8 +34,10 @@ import { refuseOverwritingInputs, toJson, type InputRecord } from '../output.js'
 import { VERSION } from '../version.js';
 import type { Pass, PassContext, Topology } from '../types.js';
 import type { Boundary } from '../transport.js';
-import { buildReport, chargeLayoutOnStore, chooseRdfPairs, renderTerminalSummary, type RdfPairChoice, type ReportData } from '../report/build.js';
-import { stageDirectory, type StagedDirectory } from '../report/write.js';
+import { chargeLayoutOnStore, chooseRdfPairs, type RdfPairChoice } from '../report/choose.js';
+// The report writers (plots, HTML) are loaded only when a report is written, not in workers.
+import type { ReportData } from '../report/build.js';
+import type { StagedDirectory } from '../report/write.js';
 
 interface ReportCliOptions extends TrajectoryOptions {
   out: string;
@@ -193,7 +195,7 @@ export function register(program: Command): void {
     // Workers (and a run whose partials are handed to a parent) only read frames: no output.
     const writesOutput = isMainThread && workerCapture() === null;
     let staged: StagedDirectory | null = null;
-    if (writesOutput) staged = await stageDirectory(opts.out);
+    if (writesOutput) staged = await (await import('../report/write.js')).stageDirectory(opts.out);
     try {
       const layoutSpec = (t: Topology) => speciesLayout(t, {});
       const store = storePass({ layout: layoutSpec, removeDrift: true, keepVelocities: true });
@@ -349,6 +351,7 @@ export function register(program: Command): void {
         skipped,
         warnings,
       };
+      const { buildReport, renderTerminalSummary } = await import('../report/build.js');
       const built = buildReport(data, (performance.now() - t0) / 1000);
       if (staged) {
         for (const f of built.files) await staged.write(f.name, f.data);
