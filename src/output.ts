@@ -139,6 +139,15 @@ export function checkOutputFile(output: string, inputs: string[], what: string):
 }
 
 /**
+ * Check, before a run, that files named PREFIX-… can be written: the prefix's folder exists.
+ * Usage error otherwise (exit 2), so a long run never ends in an unwritable output.
+ */
+export function checkOutputPrefix(prefix: string, what: string): void {
+  const dir = path.dirname(path.resolve(`${prefix}-x`));
+  if (!existsSync(dir) || !statSync(dir).isDirectory()) throw new UsageError(`${what} ${prefix}: the folder ${dir} does not exist`);
+}
+
+/**
  * Format value ± uncertainty with the uncertainty to two significant figures and the value to
  * the same decimal place (common practice, no source; cf. JCGM 100:2008 §7.2.6).
  */

@@ -245,6 +245,21 @@ describe('outputs and inputs', () => {
     expect(runFailing(['inspect', 'in2.xyz', '--partial-out', tmp.dir], [], 2).stderr).toMatch(/is a folder/);
   });
 
+  it('a CSV output into a missing folder is refused before the input is read', () => {
+    // The input is broken too: a check made before reading reports the folder (exit 2); one made
+    // after reading would report the input instead (exit 1). Exit statuses are sojourn's contract.
+    const bad = tmp.file('broken-csv.xyz', '2\nc\nNa 0 0 0\nCl 1 1 x\n');
+    const cases: string[][] = [
+      ['rdf', 'broken-csv.xyz', '--pair', 'Na:Cl', '--box', '10,10,10', '--csv', 'no/such/dir/g'],
+      ['shell', 'broken-csv.xyz', '--center', 'Na', '--around', 'Cl', '--cutoff', '3A', '--box', '10,10,10', '--csv', 'no/such/dir/s'],
+      ['msd', 'broken-csv.xyz', '--csv', 'no/such/dir/m.csv'],
+      ['conductivity', 'broken-csv.xyz', '--charges', 'Na=+1,Cl=-1', '--temperature', '300K', '--csv', 'no/such/dir/c.csv'],
+    ];
+    for (const args of cases) expect(runFailing(args, [bad], 2).stderr).toMatch(/no\/such\/dir.*does not exist|does not exist/);
+    const table = tmp.file('p-csv.tsv', 'time pxy\n0 1\n1 2\n');
+    expect(runFailing(['viscosity', 'p-csv.tsv', '--volume', '1000A3', '--temperature', '300K', '--csv', 'no/such/dir/v.csv'], [table], 2).stderr).toMatch(/does not exist/);
+  });
+
   it('a failing run leaves an existing --partial-out file byte-identical, creates none, and leaves no temporary files', () => {
     const bad = tmp.file('broken.xyz', '2\nc\nNa 0 0 0\nCl 1 1 x\n');
     const old = tmp.file('old-partial.json', '{"left":"alone"}\n');

@@ -23,7 +23,7 @@ import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
 import { parseSelection } from '../selection.js';
-import { formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputFile, formatQuantity, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
 import type { Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 
@@ -133,7 +133,7 @@ export function register(program: Command): void {
     const temperature = parseQuantity(opts.temperature, 'temperature', '--temperature', 'K');
     if (!(temperature > 0)) throw new UsageError('--temperature must be positive');
     const charges = opts.charges !== undefined ? parseChargeRules(opts.charges) : null;
-    if (opts.csv) refuseOverwritingInputs(opts.csv, [file]);
+    if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
     const wo = windowOptions(opts);
     const po = plateauOptions(opts);
     const copts = {

@@ -33,7 +33,7 @@ import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } f
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
-import { formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputFile, formatQuantity, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
 import type { Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE, DEFAULT_SEGMENTS, DEFAULT_SLOPE_TOLERANCE } from '../fit.js';
@@ -265,7 +265,7 @@ export function register(program: Command): void {
   addTrajectoryOptions(cmd).action(async (file: string, opts: MsdCliOptions) => {
     const warnings: string[] = [];
     const mo = msdOptionsFrom(opts);
-    if (opts.csv) refuseOverwritingInputs(opts.csv, [file]);
+    if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
     const so = siteOptions(opts);
     const layoutSpec = (t: Topology) => speciesLayout(t, so);
     const plan = await planSiteBatches(file, opts, layoutSpec, 24);

@@ -11,7 +11,7 @@ import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } f
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
-import { formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputPrefix, formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
 import { CAUTION } from '../caution.js';
 import { AVOGADRO } from '../units.js';
 
@@ -204,6 +204,7 @@ export function register(program: Command): void {
     const warnings: string[] = [];
     const spec = rdfSpecFromOptions(opts);
     const pass = rdfPass(spec);
+    if (opts.csv) checkOutputPrefix(opts.csv, '--csv');
     const run = await runOnTrajectory(file, opts, [pass], warnings);
     const results = finishPasses([pass], run.partials, run.ctx).rdf as RdfResult;
     if (opts.csv) {

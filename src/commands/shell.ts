@@ -9,7 +9,7 @@ import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } f
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
-import { formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputPrefix, formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
 import { CAUTION } from '../caution.js';
 
 interface ShellOptions extends TrajectoryOptions {
@@ -71,6 +71,7 @@ export function register(program: Command): void {
     const fitFrom = opts.fitFrom !== undefined ? parseQuantity(opts.fitFrom, 'time', '--fit-from') : null;
     const fitTo = opts.fitTo !== undefined ? parseQuantity(opts.fitTo, 'time', '--fit-to') : null;
     const pass = shellPass({ center: opts.center, around: opts.around, cutoff, tolerance, segments, fitFrom, fitTo });
+    if (opts.csv) checkOutputPrefix(opts.csv, '--csv');
     const run = await runOnTrajectory(file, opts, [pass], warnings);
     const results = finishPasses([pass], run.partials, run.ctx).shell as ShellResult;
     if (opts.csv) {

@@ -17,7 +17,7 @@ import { uniformStep } from './converge.js';
 import { finishPasses } from '../runner.js';
 import { parseQuantity, UNIT_FACTORS } from '../units.js';
 import { UsageError, InputError } from '../errors.js';
-import { formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic, type InputRecord } from '../output.js';
+import { checkOutputFile, formatQuantity, formatSig, formatTable, toCsv, writeFileAtomic, type InputRecord } from '../output.js';
 import { quantity, type Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 
@@ -180,6 +180,7 @@ export function register(program: Command): void {
       throw new UsageError(`--segments must be an integer ≥ 3, got "${opts.segments}"`);
     }
     const pascalPerUnit = UNIT_FACTORS.pressure[opts.pressureUnit];
+    if (opts.csv) checkOutputFile(opts.csv, [file, ...(opts.cellFrom ? [opts.cellFrom] : [])], '--csv');
     let dt = parsePositiveTime(opts.sampleInterval, '--sample-interval');
     const inputs: InputRecord[] = [];
     let volumeA3: number;
@@ -212,10 +213,7 @@ export function register(program: Command): void {
     const analysis = analyseViscosity({ components, dt, volumeA3, temperatureK, pascalPerUnit, segments });
     const r = analysis.result;
     if (!r.converged) warnings.push(`viscosity not converged: ${r.reasons.join('; ')}`);
-    if (opts.csv) {
-      refuseOverwritingInputs(opts.csv, [file, ...(opts.cellFrom ? [opts.cellFrom] : [])]);
-      await writeFileAtomic(opts.csv, viscosityCsv(analysis));
-    }
+    if (opts.csv) await writeFileAtomic(opts.csv, viscosityCsv(analysis));
     const results = {
       ...r,
       temperature: quantity(temperatureK, null, 'K'),
