@@ -119,6 +119,8 @@ async function runGroup(group: Group, large: boolean): Promise<Row[]> {
         add('rdf command, 2000 atoms × 1000 frames, 1 thread', one.seconds, 's');
         add('rdf command, 2 threads', two.seconds, 's');
         add('rdf command speed-up on 2 threads', one.seconds / two.seconds, '×', '≥ 1.7');
+        const { benchRdfScaling } = await import('./rdf-scaling.js');
+        for (const r of await benchRdfScaling()) add(r.name, r.value, r.unit, r.target);
       } finally {
         rmSync(dir, { recursive: true, force: true });
       }
