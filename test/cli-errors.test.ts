@@ -345,3 +345,24 @@ describe('outputs and inputs', () => {
     expect(r.stderr).toMatch(/<stdin>: gzip stream truncated/);
   });
 });
+
+describe('degenerate but valid input', () => {
+  it('msd of atoms that never move: D = 0 exactly, flagged not converged, α2 reported as undefined', () => {
+    // Closed form: no displacement gives MSD(t) = 0 at every lag, so D = 0; α2 = 3⟨Δr⁴⟩/(5⟨Δr²⟩²) − 1
+    // (Rahman 1964) is 0/0 and must be named undefined rather than printed as NaN.
+    let s = '';
+    for (let f = 0; f < 60; f++) {
+      s += `3\nLattice="20 0 0 0 20 0 0 0 20" Properties=species:S:1:pos:R:3 Time=${(f * 0.1).toFixed(1)}\n`;
+      for (let i = 0; i < 3; i++) s += `Ar ${3 * i + 1} 2 3\n`;
+    }
+    tmp.file('frozen.xyz', s);
+    const text = runCli(['msd', 'frozen.xyz', '--threads', '1'], { cwd: tmp.dir });
+    expect(text.status).toBe(0);
+    expect(text.stdout).toMatch(/α2 undefined: the atoms did not move/);
+    expect(text.stdout).not.toMatch(/NaN/);
+    const json = runCli(['msd', 'frozen.xyz', '--threads', '1', '--json'], { cwd: tmp.dir });
+    const g = JSON.parse(json.stdout).results.groups[0];
+    expect(g.diffusion.value).toBe(0);
+    expect(g.converged).toBe(false);
+  });
+});

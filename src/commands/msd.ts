@@ -214,9 +214,12 @@ export function renderMsd(file: string, r: MsdResult): string {
   if (r.yehHummer) out.push(`Yeh–Hummer: ΔD = ${formatSig(r.yehHummer.correction.value * 1e9, 4)}×10⁻⁹ m²/s; ${r.yehHummer.note}`);
   out.push(r.memoryNote ? `memory: ${r.memoryNote}` : `memory: ${formatSig(r.bytesHeld / 2 ** 20, 4)} MiB of coordinates held`);
   for (const g of r.groups) {
-    if (g.nonGaussian.length) {
-      const peak = g.nonGaussian.reduce((a, b) => (b.value > a.value ? b : a));
+    const defined = g.nonGaussian.filter((x) => Number.isFinite(x.value));
+    if (defined.length) {
+      const peak = defined.reduce((a, b) => (b.value > a.value ? b : a));
       out.push(`${g.label}: non-Gaussian parameter α2 peaks at ${formatSig(peak.value, 3)} near ${formatSig(peak.time, 4)} ps`);
+    } else if (g.nonGaussian.length) {
+      out.push(`${g.label}: non-Gaussian parameter α2 undefined: the atoms did not move (MSD = 0)`);
     }
     for (const n of g.notes) out.push(`${g.label}: ${n}`);
   }
