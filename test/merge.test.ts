@@ -86,6 +86,30 @@ describe('frame-range jobs merged equal the single run', () => {
     expect((two.results as { pairs: { g: number[] }[] }).pairs[0].g).toEqual((one.results as { pairs: { g: number[] }[] }).pairs[0].g);
   });
 
+  it('msd, shell and conductivity on two threads (the 120 frames cut into 7 chunks handed out on demand) equal one thread', () => {
+    // 120 frames → 7 chunks of ≥ 16 frames (src/commands/parallel.ts), so 6 cuts that unwrapping,
+    // residence bookkeeping and the collective displacement must carry across. Tolerances as above:
+    // stored series are concatenated, so curves agree to round-off (1e-9 relative); counts exactly.
+    const cases: Array<[string[], (r: Record<string, unknown>) => number[]]> = [
+      [['msd', traj], (r) => (r as { groups: { msd: number[] }[] }).groups.flatMap((g) => g.msd)],
+      [['shell', traj, '--center', 'Na', '--around', 'O', '--cutoff', '3A'], (r) => {
+        const x = r as { survival: { value: number[] }; counts: { fractions: number[] } };
+        return [...x.survival.value, ...x.counts.fractions];
+      }],
+      [['conductivity', traj, '--charges', 'Na=+3,O=-1', '--temperature', '300K'], (r) => {
+        const c = (r as { curves: { collectiveMsd: number[] } }).curves;
+        return c.collectiveMsd;
+      }],
+    ];
+    for (const [base, pick] of cases) {
+      const a = pick(json([...base, '--threads', '1']).results);
+      const b = pick(json([...base, '--threads', '2']).results);
+      expect(a.length).toBeGreaterThan(10);
+      expect(b.length).toBe(a.length);
+      a.forEach((v, k) => expect(Math.abs(b[k] - v), `${base[0]} entry ${k}`).toBeLessThanOrEqual(1e-9 * Math.max(1, Math.abs(v))));
+    }
+  });
+
   it('refuses to merge partial files from different commands', () => {
     const p1 = join(tmp.dir, 'x-rdf.json');
     const p2 = join(tmp.dir, 'x-msd.json');

@@ -168,9 +168,15 @@ export function useMergeSource(docs: PartialFile[]): void {
   };
 }
 
-/** What a worker sends back. */
+/** Chunks per thread when frames are handed out on demand, and the fewest frames in a chunk. */
+const CHUNKS_PER_THREAD = 4;
+const MIN_CHUNK_FRAMES = 16;
+
+/** What a worker sends back for a chunk (or `done` once every chunk is taken). */
 interface WorkerReply {
   ok: boolean;
+  /** Index of the chunk this reply is for. */
+  chunk?: number;
   error?: { name: string; message: string };
   partials?: unknown[];
   firstIndex?: number;
@@ -181,6 +187,14 @@ interface WorkerReply {
   topology?: unknown;
   input?: TrajectoryRun['input'];
   warnings?: string[];
+}
+
+/** The error a worker's failure reply stands for (bad input and analysis failures exit 1, usage 2). */
+function workerFailure(m: WorkerReply): Error {
+  const e = m.error ?? { name: 'Error', message: 'worker failed' };
+  if (e.name === 'UsageError') return new UsageError(e.message);
+  if (e.name === 'InputError' || e.name === 'AnalysisError') return new AnalysisError(e.message);
+  return new Error(e.message);
 }
 
 /** True when the file starts with the gzip magic bytes 0x1f 0x8b (RFC 1952 §2.3.1). */
@@ -214,11 +228,13 @@ function workerScript(): string | null {
 export type LocalRead = (range: FrameRange, plan: WorkerReadPlan, warnings: Warnings, quiet: boolean) => Promise<TrajectoryRun>;
 
 /**
- * Run the current command on `threads` threads, each on a contiguous share of the frames, and
- * merge their partials in frame order. This thread reads the first share itself (it has the
- * command loaded already, and would otherwise sit idle on a machine whose cores the workers
- * fill); threads − 1 workers take the others. Returns null when threads are not used: one
- * thread, stdin, fewer than 2 frames per thread, or running from TypeScript sources.
+ * Run the current command on `threads` threads and merge their partials in frame order. The
+ * frames are cut into contiguous chunks (up to CHUNKS_PER_THREAD per thread, at least
+ * MIN_CHUNK_FRAMES frames each; one per thread for gzip) that this thread and threads − 1
+ * workers take from a shared counter as they become free. This thread takes chunks too: it has
+ * the command loaded already, and would otherwise sit idle on cores the workers fill. Returns
+ * null when threads are not used: one thread, stdin, fewer than 2 frames per thread, or running
+ * from TypeScript sources.
  */
 export async function runInWorkers(
   file: string,
@@ -266,14 +282,19 @@ export async function runInWorkers(
     release(0);
     return null;
   }
-  const per = Math.ceil(used / n);
+  // Chunks handed out on demand: a thread that runs faster (or starts earlier: this one has the
+  // command loaded, the workers are still loading it) takes more of them, so the threads finish
+  // together even on cores that slow each other down. A gzip file is read from its start for every
+  // chunk, so there it stays one chunk per thread.
+  const chunks = index.compressed ? n : Math.max(n, Math.min(CHUNKS_PER_THREAD * n, Math.floor(used / MIN_CHUNK_FRAMES)));
+  const per = Math.ceil(used / chunks);
   const args = stripRangeOptions(invocation.args);
-  const jobs: Array<() => Promise<WorkerReply>> = [];
-  for (let w = 0; w < n; w++) {
-    const a = from + w * per * stride;
-    const b = Math.min(to, from + (w + 1) * per * stride);
+  const work: Array<{ argv: string[]; plan: WorkerReadPlan; range: FrameRange }> = [];
+  for (let c = 0; c < chunks; c++) {
+    const a = from + c * per * stride;
+    const b = Math.min(to, from + (c + 1) * per * stride);
     if (a >= b) break;
-    // The last share of a range open past the file's end reads to the end of the file, as one
+    // The last chunk of a range open past the file's end reads to the end of the file, as one
     // read does (so a truncated last frame is reported the same way).
     const toEnd = b === to && userTo > total;
     const plan: WorkerReadPlan = { path: file, format: index.format, sha256: index.sha256, bytes: index.bytes };
@@ -283,45 +304,56 @@ export async function runInWorkers(
       const e = toEnd ? null : index.start(b);
       if (e !== null) plan.end = e.offset;
     }
-    if (w === 0) {
-      // This thread's share, run after the workers have been sent theirs.
-      const range: FrameRange = { from: a, to: toEnd ? Infinity : b, stride };
-      jobs.push(async () => replyOf(await local(range, plan, [], true)));
-      continue;
-    }
     const argv = [invocation.command, ...args, '--frames', `${a}:${toEnd ? '' : b}:${stride}`, '--threads', '1', '--quiet'];
-    const worker = pool[w - 1];
-    const reply = new Promise<WorkerReply>((resolve, reject) => {
-      worker.once('message', (m: WorkerReply) => resolve(m));
-      worker.once('error', reject);
-      worker.once('exit', (code) => {
-        if (code !== 0) reject(new Error(`worker exited with status ${code}`));
-      });
-      worker.postMessage({ argv, plan });
-    });
-    jobs.push(() => reply);
+    work.push({ argv, plan, range: { from: a, to: toEnd ? Infinity : b, stride } });
   }
-  release(jobs.length - 1);
-  // Workers first (their messages are posted above), then this thread's own share.
-  const started = jobs.slice(1).map((j) => j());
-  let first: WorkerReply;
-  try {
-    first = await jobs[0]();
-  } catch (err) {
-    // This thread's share failed (bad input is reported as a plain read reports it): stop the rest.
-    for (const p of started) p.catch(() => {});
+  const counter = new Int32Array(new SharedArrayBuffer(4));
+  const stop = () => Atomics.store(counter, 0, work.length);
+  const usedWorkers = Math.min(pool.length, work.length - 1);
+  release(usedWorkers);
+  const replies: WorkerReply[] = new Array(work.length);
+  const finished = pool.slice(0, usedWorkers).map(
+    (worker) =>
+      new Promise<void>((resolve, reject) => {
+        worker.on('message', (m: WorkerReply & { done?: boolean }) => {
+          if (m.done) resolve();
+          else if (!m.ok) {
+            stop();
+            reject(workerFailure(m));
+          } else replies[m.chunk!] = m;
+        });
+        worker.once('error', (e) => {
+          stop();
+          reject(e);
+        });
+        worker.once('exit', (code) => {
+          if (code !== 0) reject(new Error(`worker exited with status ${code}`));
+        });
+        worker.postMessage({ chunks: work.map(({ argv, plan }) => ({ argv, plan })), counter: counter.buffer });
+      }),
+  );
+  const abandon = (err: unknown): never => {
+    stop();
+    for (const f of finished) f.catch(() => {});
     for (const w of pool) void w.terminate();
     throw err;
-  }
-  const replies = [first, ...(await Promise.all(started))];
-  for (const r of replies) {
-    if (!r.ok) {
-      const e = r.error!;
-      if (e.name === 'UsageError') throw new UsageError(e.message);
-      if (e.name === 'InputError' || e.name === 'AnalysisError') throw new AnalysisError(e.message);
-      throw new Error(e.message);
+  };
+  try {
+    // This thread takes chunks too, from the same counter.
+    for (let c = Atomics.add(counter, 0, 1); c < work.length; c = Atomics.add(counter, 0, 1)) {
+      const { range, plan } = work[c]!;
+      replies[c] = replyOf(await local(range, plan, [], true));
     }
+  } catch (err) {
+    // Bad input in this thread's chunk is reported as a plain read reports it.
+    abandon(err);
   }
+  try {
+    await Promise.all(finished);
+  } catch (err) {
+    abandon(err);
+  }
+  for (const w of pool.slice(0, usedWorkers)) void w.terminate();
   // Each worker checked its frames against its own first frame; the shares must agree too.
   const t0 = replies[0].topology as TrajectoryRun['ctx']['topology'];
   for (const r of replies.slice(1)) {
@@ -340,12 +372,19 @@ export async function runInWorkers(
   }
   const seen = new Set<string>();
   for (const r of replies) for (const w of r.warnings ?? []) if (!seen.has(w)) { seen.add(w); warnings.push(w); }
-  // Partials arrive by structured clone (typed arrays and Maps survive it as they are).
-  let merged = replies[0].partials!;
-  for (let i = 1; i < replies.length; i++) {
-    const next = replies[i].partials!;
-    merged = merged.map((m, k) => passes[k].merge(m, next[k]));
+  // Partials arrive by structured clone (typed arrays and Maps survive it as they are). Merged
+  // pairwise in frame order, level by level (merge is associative), so that passes whose
+  // partials concatenate (stored coordinates) copy each frame log₂(chunks) times, not chunks times.
+  let level = replies.map((r) => r.partials!);
+  while (level.length > 1) {
+    const next: unknown[][] = [];
+    for (let i = 0; i < level.length; i += 2) {
+      const x = level[i]!, y = level[i + 1];
+      next.push(y === undefined ? x : x.map((m, k) => passes[k]!.merge(m, y[k])));
+    }
+    level = next;
   }
+  const merged = level[0]!;
   const r0 = replies[0];
   const lastIndex = replies[replies.length - 1].lastIndex!;
   return {
@@ -366,9 +405,9 @@ export async function runInWorkers(
 }
 
 /** Worker side: install the capture that posts partials to the parent. */
-export function installWorkerCapture(): void {
+export function installWorkerCapture(chunk: number): void {
   capture = (run) => {
-    parentPort!.postMessage(replyOf(run));
+    parentPort!.postMessage({ ...replyOf(run), chunk });
     throw new PartialsHandedOver();
   };
 }
@@ -390,8 +429,8 @@ function replyOf(run: TrajectoryRun): WorkerReply {
 }
 
 /** Worker side: report a failure to the parent. */
-export function replyWorkerError(err: unknown): void {
+export function replyWorkerError(err: unknown, chunk: number): void {
   const e = err instanceof Error ? err : new Error(String(err));
-  parentPort!.postMessage({ ok: false, error: { name: e.name, message: e.message } } satisfies WorkerReply);
+  parentPort!.postMessage({ ok: false, chunk, error: { name: e.name, message: e.message } } satisfies WorkerReply);
 }
 
