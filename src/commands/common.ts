@@ -47,7 +47,7 @@ export function addTrajectoryOptions(cmd: Command): Command {
     .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs')
     .option('--masses <pairs>', 'masses by atom label in g/mol, for labels that are not element symbols, e.g. "Sv=18,CH3=15.035"')
     .option('--partial-out <file>', 'also write this run\'s partial results (for `sojourn merge` of jobs over frame ranges)')
-    .option('--threads <n>', 'worker threads that split the frames (default: number of cores for plain files, 1 for gzipped ones; 1 = no workers)');
+    .option('--threads <n>', 'threads that share the frames, this one included (default: number of cores for plain files, 1 for gzipped ones; 1 = no workers)');
   return addOutputOptions(cmd);
 }
 
