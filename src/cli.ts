@@ -11,7 +11,7 @@ import { Command, CommanderError } from 'commander';
 import { COMMANDS } from './commands/index.js';
 import { exitStatusFor, InputError, UsageError, AnalysisError } from './errors.js';
 import { VERSION } from './version.js';
-import { OutputWriteError } from './output.js';
+import { commitStagedFiles, discardStagedFiles, OutputWriteError } from './output.js';
 
 /** Build the commander program with every registered command. */
 export function buildProgram(): Command {
@@ -31,8 +31,11 @@ export async function main(argv: string[]): Promise<number> {
   setInvocation(argv.slice(2));
   try {
     await program.parseAsync(argv);
+    // Outputs staged during the run (--partial-out) appear only now that the command succeeded.
+    await commitStagedFiles();
     return 0;
   } catch (err) {
+    discardStagedFiles();
     if (err instanceof CommanderError) {
       // --help and --version end here with exitCode 0; commander already printed them.
       return err.exitCode === 0 ? 0 : 2;

@@ -2,10 +2,11 @@
  * Output helpers: the JSON envelope every command prints with --json, atomic file writes,
  * number formatting with uncertainties, and aligned text tables.
  */
-import { promises as fsp, realpathSync, existsSync, statSync } from 'node:fs';
+import { promises as fsp, realpathSync, existsSync, statSync, rmSync } from 'node:fs';
 import * as path from 'node:path';
 import { randomBytes } from 'node:crypto';
 import { UsageError } from './errors.js';
+import { cleanupOnAbort } from './abort.js';
 import type { Quantity } from './types.js';
 import { VERSION } from './version.js';
 
@@ -104,6 +105,66 @@ export async function writeFileAtomic(target: string, data: string | Uint8Array)
   } catch (e) {
     await fsp.rm(tmp, { force: true });
     throw new OutputWriteError(target, e);
+  }
+}
+
+/** Files written to a temporary sibling and waiting for commitStagedFiles (see stageFile). */
+const staged = new Map<string, { tmp: string; release: () => void }>();
+
+/**
+ * Write `data` for `target` now, but under a temporary sibling name: the target appears (by an
+ * atomic rename) only when commitStagedFiles is called at the successful end of the command, and
+ * the temporary file is removed by discardStagedFiles, on SIGINT/SIGTERM or at exit otherwise. So
+ * a command that fails after writing (e.g. its own result is not defensible) leaves no output,
+ * and the data need not be held in memory until then.
+ */
+export async function stageFile(target: string, data: string | Uint8Array): Promise<void> {
+  const dir = path.dirname(path.resolve(target));
+  const tmp = path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
+  const remove = () => rmSync(tmp, { force: true });
+  const release = cleanupOnAbort(remove);
+  try {
+    const fh = await fsp.open(tmp, 'wx');
+    try {
+      await fh.writeFile(data);
+      await fh.sync();
+    } finally {
+      await fh.close();
+    }
+  } catch (e) {
+    remove();
+    release();
+    throw new OutputWriteError(target, e);
+  }
+  const old = staged.get(target);
+  if (old) {
+    rmSync(old.tmp, { force: true });
+    old.release();
+  }
+  staged.set(target, { tmp, release });
+}
+
+/** Rename every staged file onto its target (see stageFile). */
+export async function commitStagedFiles(): Promise<void> {
+  for (const [target, s] of staged) {
+    staged.delete(target);
+    try {
+      await fsp.rename(s.tmp, target);
+    } catch (e) {
+      rmSync(s.tmp, { force: true });
+      throw new OutputWriteError(target, e);
+    } finally {
+      s.release();
+    }
+  }
+}
+
+/** Remove every staged file without writing its target (see stageFile). */
+export function discardStagedFiles(): void {
+  for (const [target, s] of staged) {
+    staged.delete(target);
+    rmSync(s.tmp, { force: true });
+    s.release();
   }
 }
 

@@ -271,6 +271,16 @@ describe('outputs and inputs', () => {
     expect(tmp.list()).toEqual(before);
   });
 
+  it('a run that reads well but cannot give its own result writes no --partial-out and no temporary file', () => {
+    // 3 frames: msd refuses (it needs at least 16 frames) after the partial results exist; the
+    // partial file is staged and must not appear, as with any failing run (sojourn's contract).
+    const f = tmp.file('three.xyz', xyz(3));
+    const before = tmp.list();
+    const r = runFailing(['msd', 'three.xyz', '--threads', '1', '--partial-out', 'three-part.json'], [f], 1);
+    expect(r.stderr).toMatch(/needs at least/);
+    expect(tmp.list()).toEqual(before);
+  });
+
   it('a successful run replaces --partial-out whole and leaves no temporary files', () => {
     const f = tmp.file('ok.xyz', xyz(3));
     tmp.file('part.json', 'old content');

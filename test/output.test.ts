@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { mkdtempSync, readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { formatValue, formatTable, toJson, writeFileAtomic, refuseOverwritingInputs, toCsv } from '../src/output.js';
+import { formatValue, formatTable, toJson, writeFileAtomic, refuseOverwritingInputs, toCsv, stageFile, commitStagedFiles, discardStagedFiles } from '../src/output.js';
 import { UsageError } from '../src/errors.js';
 
 describe('formatting values with uncertainties', () => {
@@ -36,5 +36,24 @@ describe('atomic writes', () => {
     writeFileSync(input, '1\n\nH 0 0 0\n');
     expect(() => refuseOverwritingInputs(input, [input])).toThrow(UsageError);
     expect(() => refuseOverwritingInputs(join(dir, 'other'), [input])).not.toThrow();
+  });
+});
+
+describe('staged outputs', () => {
+  it('a staged file appears only on commit, whole; a discarded one leaves nothing', async () => {
+    // sojourn's contract: no output from a failing command, no temporary files left behind.
+    const dir = mkdtempSync(join(tmpdir(), 'sojourn-stage-'));
+    const kept = join(dir, 'kept.json');
+    const dropped = join(dir, 'dropped.json');
+    writeFileSync(dropped, 'previous');
+    await stageFile(kept, '{"a":1}');
+    expect(readdirSync(dir).filter((f) => !f.startsWith('.'))).toEqual(['dropped.json']);
+    expect(readdirSync(dir).filter((f) => f.startsWith('.kept.json.tmp-'))).toHaveLength(1);
+    await commitStagedFiles();
+    expect(readFileSync(kept, 'utf8')).toBe('{"a":1}');
+    await stageFile(dropped, 'new content');
+    discardStagedFiles();
+    expect(readFileSync(dropped, 'utf8')).toBe('previous');
+    expect(readdirSync(dir).sort()).toEqual(['dropped.json', 'kept.json']);
   });
 });

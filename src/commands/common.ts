@@ -10,7 +10,7 @@ import { runPasses, parseFrameRange, type FrameRange, type RunOutput } from '../
 import { parseQuantity } from '../units.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
-import { checkOutputFile, envelope, toJson, writeFileAtomic, type InputRecord } from '../output.js';
+import { checkOutputFile, envelope, stageFile, toJson, type InputRecord } from '../output.js';
 import { encodePartial, encodeTopology, type PartialFile } from '../partials.js';
 import { VERSION } from '../version.js';
 import { currentInvocation, mergeSource, runInWorkers, workerCapture, workerReadPlan, type WorkerReadPlan } from './parallel.js';
@@ -186,7 +186,8 @@ export async function writePartialFile(target: string, run: TrajectoryRun, passe
     partials: run.partials.map(encodePartial),
     warnings: [...warnings],
   };
-  await writeFileAtomic(target, JSON.stringify(doc));
+  // Staged: the file appears only if the whole command succeeds (src/cli.ts commits it).
+  await stageFile(target, JSON.stringify(doc));
 }
 
 /** Print warnings to stderr (unless quiet). */

@@ -24,6 +24,7 @@ import * as path from 'node:path';
 import { randomBytes } from 'node:crypto';
 import { UsageError } from '../errors.js';
 import { OutputWriteError } from '../output.js';
+import { cleanupOnAbort } from '../abort.js';
 
 /** File whose "tool" field marks a directory as a sojourn report. */
 export const REPORT_MARKER = 'results.json';
@@ -62,7 +63,6 @@ export function inspectReportTarget(target: string): TargetState {
 
 /** Staging directories alive in this process, with a displaced previous report if any. */
 const live = new Map<string, { target: string; displaced: string | null }>();
-let handlersInstalled = false;
 
 /** Remove staging directories and restore displaced reports (synchronous: runs in signal/exit handlers). */
 function cleanupAllSync(): void {
@@ -81,35 +81,15 @@ function cleanupAllSync(): void {
   live.clear();
 }
 
-const SIGNAL_NUMBERS: Record<string, number> = { SIGINT: 2, SIGTERM: 15 };
-
-function onSignal(signal: NodeJS.Signals): void {
-  cleanupAllSync();
-  uninstallHandlers();
-  // Re-raise so the process ends the way the signal would have ended it (exit status 128 + n to
-  // the shell); when someone else still listens, the default action would not happen: exit.
-  if (process.listenerCount(signal) === 0) process.kill(process.pid, signal);
-  else process.exit(128 + (SIGNAL_NUMBERS[signal] ?? 1));
-}
-
-function onExit(): void {
-  cleanupAllSync();
-}
+let unregister: (() => void) | null = null;
 
 function installHandlers(): void {
-  if (handlersInstalled) return;
-  process.on('SIGINT', onSignal);
-  process.on('SIGTERM', onSignal);
-  process.on('exit', onExit);
-  handlersInstalled = true;
+  if (unregister === null) unregister = cleanupOnAbort(cleanupAllSync);
 }
 
 function uninstallHandlers(): void {
-  if (!handlersInstalled) return;
-  process.off('SIGINT', onSignal);
-  process.off('SIGTERM', onSignal);
-  process.off('exit', onExit);
-  handlersInstalled = false;
+  unregister?.();
+  unregister = null;
 }
 
 function forget(staging: string): void {
