@@ -91,6 +91,20 @@ export class OutputWriteError extends Error {
  * the temporary file is removed and an OutputWriteError is thrown.
  */
 export async function writeFileAtomic(target: string, data: string | Uint8Array): Promise<void> {
+  const tmp = await writeSibling(target, data);
+  try {
+    await fsp.rename(tmp, target);
+  } catch (e) {
+    await fsp.rm(tmp, { force: true });
+    throw new OutputWriteError(target, e);
+  }
+}
+
+/**
+ * Write `data` to a new temporary file beside `target` (same folder, so a rename is atomic),
+ * synced to disk; returns its path. Nothing is left behind when the write fails.
+ */
+async function writeSibling(target: string, data: string | Uint8Array): Promise<string> {
   const dir = path.dirname(path.resolve(target));
   const tmp = path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
   try {
@@ -101,11 +115,11 @@ export async function writeFileAtomic(target: string, data: string | Uint8Array)
     } finally {
       await fh.close();
     }
-    await fsp.rename(tmp, target);
   } catch (e) {
     await fsp.rm(tmp, { force: true });
     throw new OutputWriteError(target, e);
   }
+  return tmp;
 }
 
 /** Files written to a temporary sibling and waiting for commitStagedFiles (see stageFile). */
@@ -119,22 +133,15 @@ const staged = new Map<string, { tmp: string; release: () => void }>();
  * and the data need not be held in memory until then.
  */
 export async function stageFile(target: string, data: string | Uint8Array): Promise<void> {
-  const dir = path.dirname(path.resolve(target));
-  const tmp = path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
-  const remove = () => rmSync(tmp, { force: true });
-  const release = cleanupOnAbort(remove);
+  let tmp: string | null = null;
+  const release = cleanupOnAbort(() => {
+    if (tmp !== null) rmSync(tmp, { force: true });
+  });
   try {
-    const fh = await fsp.open(tmp, 'wx');
-    try {
-      await fh.writeFile(data);
-      await fh.sync();
-    } finally {
-      await fh.close();
-    }
+    tmp = await writeSibling(target, data);
   } catch (e) {
-    remove();
     release();
-    throw new OutputWriteError(target, e);
+    throw e;
   }
   const old = staged.get(target);
   if (old) {
