@@ -1030,7 +1030,9 @@ export function groupCurveSums(
       for (const sg of segs) {
         const L = sg.frames;
         for (let k = 0; k < sg.segments; k++) {
-          const seg = msdSumFft(series.map((x) => x.subarray(k * L, (k + 1) * L)), sg.lag);
+          // Copies: msdSumFft centres its series in place, which must not shift the full series
+          // seen by the next segment length.
+          const seg = msdSumFft(series.map((x) => x.slice(k * L, (k + 1) * L)), sg.lag);
           const acc = sg.curves[k][c];
           for (let m = 0; m <= sg.lag; m++) acc[m] += seg[m];
         }

@@ -23,6 +23,14 @@
  * even extension; ν in THz (1/ps) and in cm⁻¹ (ν̃ = ν/c: 1 THz = 33.35641 cm⁻¹). S(0)/(2d) is the
  * tapered D. The power spectrum of the VACF as the vibrational density of states: Dickey & Paskin,
  * Phys. Rev. 188, 1407 (1969) (from memory).
+ *
+ * Batches of sites: C(t) of a group is a site average, so the analysis first forms site sums
+ * (`VacfGroupSums`: the full-run curve and every segment curve the plateau rule may ask for, all
+ * before the division by the number of sites) and finishes from them (`finishVacf`). Sums from
+ * batches of sites stored over several reads of a file (`--max-memory`,
+ * src/commands/batching.ts) add up (`addVacfSums`) to those of one read; the normalisation,
+ * running integral, plateau and spectrum follow the addition, so the result equals one read's to
+ * round-off.
  */
 import FFT from 'fft.js';
 import type { Pass, PassContext, Quantity } from '../src/types.js';
@@ -61,6 +69,7 @@ import {
   driftDescription,
   uncertaintyRuleText,
   type LayoutSpec,
+  type ReadInfo,
   type SiteLayout,
   type SpeciesLayoutOptions,
   type StorePartial,
@@ -113,7 +122,8 @@ export function gatherVelocities(
 
 /**
  * VACF of a group, C(m) = (1/N) Σ_sites Σ_comps ⟨v_c(t) v_c(t+m)⟩_t over velocity samples
- * [from, from+count), m = 0 … maxLag (Å²/ps²), all time origins by FFT (src/correlate.ts).
+ * [from, from+count), m = 0 … maxLag (Å²/ps²), all time origins by FFT (src/correlate.ts):
+ * `groupVacfSums` divided by the N sites.
  */
 export function groupVacf(
   view: StoreView,
@@ -124,7 +134,51 @@ export function groupVacf(
   maxLag: number,
   dt: number,
 ): Float64Array {
+  const result = groupVacfSums(view, sites, comps, from, count, maxLag, dt).vacf;
+  for (let m = 0; m <= maxLag; m++) result[m] /= sites.length;
+  return result;
+}
+
+/**
+ * Site sums of one group's VACF curves, not yet divided by the number of sites, so that sums
+ * over batches of sites add up to those of the whole group (`addVacfSums`).
+ */
+export interface VacfGroupSums {
+  sites: number;
+  /** Σ_sites Σ_comps ⟨v_c(t) v_c(t+m)⟩_t over all samples, m = 0 … maxLag (Å²/ps² × sites). */
+  vacf: Float64Array;
+  /** The same over each segment k (samples [kL, (k+1)L)), m = 0 … the plan's segment lag; empty when not summed. */
+  segments: Float64Array[];
+}
+
+/** Segments whose curves are summed with the full run: count M, samples per segment L, largest lag. */
+export interface VacfSegmentSpec {
+  segments: number;
+  samples: number;
+  lag: number;
+}
+
+/**
+ * Σ_sites Σ_comps ⟨v_c(t) v_c(t+m)⟩_t of a group over velocity samples [from, from+count),
+ * m = 0 … maxLag, and with `seg` the same sum over each of its M segments [from + kL, from + (k+1)L)
+ * up to its lag, from one gather of each block of sites (the segment series are views of the
+ * gathered full-run series, so the values are those of a separate gather). All time origins by
+ * FFT (src/correlate.ts `sumOfAutocorrelations`).
+ */
+export function groupVacfSums(
+  view: StoreView,
+  sites: Int32Array,
+  comps: readonly number[],
+  from: number,
+  count: number,
+  maxLag: number,
+  dt: number,
+  seg?: VacfSegmentSpec,
+): VacfGroupSums {
   const result = new Float64Array(maxLag + 1);
+  const segSpec = seg && seg.segments > 0 && seg.samples >= 2 ? seg : null;
+  const segLag = segSpec ? Math.min(segSpec.lag, segSpec.samples - 1) : 0;
+  const segments = segSpec ? Array.from({ length: segSpec.segments }, () => new Float64Array(segLag + 1)) : [];
   const nc = comps.length;
   const B = Math.max(1, Math.min(64, Math.floor(16e6 / (8 * nc * Math.max(1, count)))));
   const buffers = Array.from({ length: Math.min(B, sites.length) * nc }, () => new Float64Array(count));
@@ -134,9 +188,29 @@ export function groupVacf(
     gatherVelocities(view, block, comps, from, count, dt, bufs);
     const c = sumOfAutocorrelations(bufs, { maxLag });
     for (let m = 0; m <= maxLag; m++) result[m] += c[m];
+    if (segSpec) {
+      const L = segSpec.samples;
+      segments.forEach((acc, k) => {
+        const part = sumOfAutocorrelations(
+          bufs.map((x) => x.subarray(k * L, (k + 1) * L)),
+          { maxLag: segLag },
+        );
+        for (let m = 0; m <= segLag; m++) acc[m] += part[m];
+      });
+    }
   }
-  for (let m = 0; m <= maxLag; m++) result[m] /= sites.length;
-  return result;
+  return { sites: sites.length, vacf: result, segments };
+}
+
+/** Add the sums of b (other sites of the same group, same lags) into a; returns a. */
+export function addVacfSums(a: VacfGroupSums, b: VacfGroupSums): VacfGroupSums {
+  const add = (x: Float64Array, y: Float64Array) => {
+    for (let i = 0; i < x.length; i++) x[i] += y[i];
+  };
+  a.sites += b.sites;
+  add(a.vacf, b.vacf);
+  a.segments.forEach((x, k) => add(x, b.segments[k]));
+  return a;
 }
 
 /**
@@ -214,7 +288,10 @@ export interface VacfResult {
   frameInterval: number;
   driftRemoved: boolean;
   driftNote: string;
+  /** Bytes of the largest store held at once, reads of the file, and why the sites were batched (or null). */
   bytesHeld: number;
+  reads: number;
+  memoryNote: string | null;
   rules: { plateau: string; uncertainty: string; spectrum: string };
 }
 
@@ -235,6 +312,34 @@ export interface SegmentedPlateau {
 }
 
 /**
+ * Segments for the plateau of a running integral of `lags` lags (0 … lags−1) computed from
+ * `samples` samples: the requested count M (default DEFAULT_SEGMENTS), lowered towards
+ * MIN_SEGMENTS while a segment of L = ⌊samples/M⌋ samples holds fewer than 3·MIN_PLATEAU_POINTS
+ * lags under the f_max rule; `last` = min(lags − 1, ⌊f_max (L − 1)⌋) is the largest lag a segment
+ * holds (the plateau search and every segment curve stay within it). Segments 0 when no count
+ * fits (then `last` = lags − 1). Depends on the lengths only, never on the data, so a batched run
+ * can sum the segment curves before the plateau is known. Rule: common practice, no source.
+ */
+export function plateauSegments(
+  lags: number,
+  samples: number,
+  opts: { segments?: number; maxFraction?: number },
+): { segments: number; last: number; notes: string[] } {
+  const notes: string[] = [];
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
+  for (let m = want; m >= Math.min(want, MIN_SEGMENTS); m--) {
+    const cap = Math.min(lags - 1, maxLagIndex(Math.floor(samples / m), f));
+    if (cap >= 3 * MIN_PLATEAU_POINTS) {
+      if (m !== want) notes.push(`${m} segments instead of ${want}: segments of ${want} would be too short`);
+      return { segments: m, last: cap, notes };
+    }
+  }
+  notes.push(`not converged: the run is too short for ${Math.min(want, MIN_SEGMENTS)} independent segments; no uncertainty`);
+  return { segments: 0, last: lags - 1, notes };
+}
+
+/**
  * Plateau and segment uncertainty of a running integral. The run of `samples` samples is cut
  * into M segments (default 5, reduced to no fewer than MIN_SEGMENTS when a segment would be too
  * short); the plateau is searched (src/fit.ts `plateauWindow`) among the lags a segment can hold
@@ -252,22 +357,11 @@ export function plateauWithSegments(
   opts: { plateauTolerance?: number; plateauSpan?: number; segments?: number; maxFraction?: number; timeStep?: number },
   segmentIntegral: (start: number, count: number, maxLag: number) => Float64Array,
 ): SegmentedPlateau {
-  const notes: string[] = [];
-  const want = opts.segments ?? DEFAULT_SEGMENTS;
-  const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
   const tol = opts.plateauTolerance ?? DEFAULT_PLATEAU_TOLERANCE;
-  let M = 0;
-  let last = integral.length - 1;
-  for (let m = want; m >= Math.min(want, MIN_SEGMENTS); m--) {
-    const cap = Math.min(integral.length - 1, maxLagIndex(Math.floor(samples / m), f));
-    if (cap >= 3 * MIN_PLATEAU_POINTS) {
-      M = m;
-      last = cap;
-      if (m !== want) notes.push(`${m} segments instead of ${want}: segments of ${want} would be too short`);
-      break;
-    }
-  }
-  if (M === 0) notes.push(`not converged: the run is too short for ${Math.min(want, MIN_SEGMENTS)} independent segments; no uncertainty`);
+  const sp = plateauSegments(integral.length, samples, opts);
+  const notes = [...sp.notes];
+  const M = sp.segments;
+  const last = sp.last;
   const w = plateauWindow(integral, { tolerance: tol, spanFraction: opts.plateauSpan, last });
   if (!w.found && w.reason) notes.push(`not converged: ${w.reason}`);
   const window = { from: w.from, to: w.to };
@@ -310,31 +404,108 @@ export function plateauWithSegments(
   return { window, found: w.found, value, segmentValues, error, segments: M, uncertaintyFactor: factor, drift, converged, notes };
 }
 
+/** Lags and segments of a VACF analysis (shared by the one-read and the batched paths). */
+export interface VacfPlan {
+  /** Velocity samples Tv (T from the file, T − 2 from central differences). */
+  samples: number;
+  /** Largest lag of the full-run curve, ⌊f_max (Tv − 1)⌋. */
+  maxLag: number;
+  /** Segments M of the plateau uncertainty (0: none), samples per segment L and the largest lag a segment curve is needed for. */
+  segments: number;
+  segmentSamples: number;
+  segmentLag: number;
+}
+
+/**
+ * The lag ranges for Tv velocity samples: the full-run curve up to ⌊f_max (Tv − 1)⌋ and the M
+ * segment curves up to the largest lag a segment holds (`plateauSegments`), which bounds every
+ * lag the plateau and drift checks of `plateauWithSegments` ask a segment for. Throws an
+ * AnalysisError below 4·MIN_PLATEAU_POINTS samples.
+ */
+export function vacfPlan(samples: number, opts: VacfOptions = {}): VacfPlan {
+  if (samples < 4 * MIN_PLATEAU_POINTS) throw new AnalysisError(`only ${samples} velocity samples: the VACF needs at least ${4 * MIN_PLATEAU_POINTS}`);
+  const maxLag = maxLagIndex(samples, opts.maxFraction ?? DEFAULT_MAX_FRACTION);
+  const sp = plateauSegments(maxLag + 1, samples, opts);
+  return { samples, maxLag, segments: sp.segments, segmentSamples: sp.segments > 0 ? Math.floor(samples / sp.segments) : 0, segmentLag: sp.last };
+}
+
+/**
+ * Site sums of every group's VACF curves (full run and the plan's segments) over the sites a
+ * store holds. `groupSites` gives, per group of the layout, the indices of its sites in the
+ * store's site map (default: the layout's own).
+ */
+export function vacfSums(
+  store: StorePartial,
+  layout: SiteLayout,
+  plan: VacfPlan,
+  comps: readonly number[],
+  dt: number,
+  groupSites?: Int32Array[],
+): VacfGroupSums[] {
+  const view = new StoreView(store);
+  const seg = { segments: plan.segments, samples: plan.segmentSamples, lag: plan.segmentLag };
+  return layout.groups.map((g, i) => groupVacfSums(view, groupSites ? groupSites[i] : g.sites, comps, 0, plan.samples, plan.maxLag, dt, seg));
+}
+
 /** The VACF analysis on a finished store (see the module comment). */
 export function analyseVacf(store: StorePartial, layout: SiteLayout, ctx: PassContext, opts: VacfOptions = {}): VacfResult {
   const dt = requireFrameInterval(ctx);
   const comps = planeComponents(opts.plane);
+  const plan = vacfPlan(velocityFrames(store), opts);
+  const view = new StoreView(store);
+  // The full-run sums now; segment curves on demand from the stored coordinates (only the lags
+  // the plateau check needs).
+  const sums = layout.groups.map((g) => groupVacfSums(view, g.sites, comps, 0, plan.samples, plan.maxLag, dt));
+  return finishVacf(sums, plan, store, layout, ctx, opts, { reads: 1, bytesHeld: storeBytes(store) }, (gi, start, count, lag) =>
+    groupVacf(view, layout.groups[gi].sites, comps, start, count, lag, dt),
+  );
+}
+
+/**
+ * The VACF result from site sums (`vacfSums`, possibly added over batches of sites with
+ * `addVacfSums`): per group C(t) = sum/N, the running integral D(t) = (1/d)∫C, its plateau and
+ * segment uncertainty (`plateauWithSegments`), the sampling check and the spectrum (module
+ * comment). `info` is a store of the run (its velocity source, drift and cell records; its
+ * coordinates are not used). Segment curves come from the sums; `recompute`, when the
+ * coordinates are still held, serves segments that were not summed.
+ */
+export function finishVacf(
+  sums: VacfGroupSums[],
+  plan: VacfPlan,
+  info: StorePartial,
+  layout: SiteLayout,
+  ctx: PassContext,
+  opts: VacfOptions,
+  read: ReadInfo,
+  recompute?: (group: number, start: number, count: number, maxLag: number) => Float64Array,
+): VacfResult {
+  const dt = requireFrameInterval(ctx);
+  const comps = planeComponents(opts.plane);
   const dims = comps.length;
-  const source = velocitySourceOf(store);
-  const Tv = velocityFrames(store);
-  if (Tv < 4 * MIN_PLATEAU_POINTS) throw new AnalysisError(`only ${Tv} velocity samples: the VACF needs at least ${4 * MIN_PLATEAU_POINTS}`);
+  const source = velocitySourceOf(info);
+  const Tv = plan.samples;
   if (source === 'central differences') {
     ctx.warnings.push(
-      (store.velocitiesMissing ? 'some frames carry no velocities: ' : 'the file carries no velocities: ') +
+      (info.velocitiesMissing ? 'some frames carry no velocities: ' : 'the file carries no velocities: ') +
         `velocities are central differences of positions ${dt} ps apart, at interior frames only; ` +
         'motion faster than the frame interval is smoothed away (C(0) and the high-frequency spectrum are underestimated)',
     );
   }
-  const view = new StoreView(store);
-  const maxLag = maxLagIndex(Tv, opts.maxFraction ?? DEFAULT_MAX_FRACTION);
   const toD = A2_PER_PS / dims;
   const groups: VacfGroupResult[] = [];
-  for (const g of layout.groups) {
-    const c = groupVacf(view, g.sites, comps, 0, Tv, maxLag, dt);
+  layout.groups.forEach((g, gi) => {
+    const sum = sums[gi];
+    const n = sum.sites;
+    const c = sum.vacf.map((x) => x / n);
     const running = cumulativeTrapezoid(c, dt).map((x) => x * toD);
-    const pw = plateauWithSegments(running, Tv, { ...opts, timeStep: dt }, (start, count, lag) =>
-      cumulativeTrapezoid(groupVacf(view, g.sites, comps, start, count, lag, dt), dt).map((x) => x * toD),
-    );
+    const pw = plateauWithSegments(running, Tv, { ...opts, timeStep: dt }, (start, count, lag) => {
+      let seg: Float64Array;
+      const summed = sum.segments.length > 0 && count === plan.segmentSamples && start % count === 0 && lag <= plan.segmentLag;
+      if (summed) seg = sum.segments[start / count].slice(0, lag + 1).map((x) => x / n);
+      else if (recompute) seg = recompute(gi, start, count, lag);
+      else throw new AnalysisError(`no VACF segment curves of ${count} samples were summed`);
+      return cumulativeTrapezoid(seg, dt).map((x) => x * toD);
+    });
     const spec = cosineSpectrum(c, dt);
     const notes = [...pw.notes];
     if (!(c[0] > 0)) notes.push('not converged: C(0) is not positive (no motion)');
@@ -365,16 +536,18 @@ export function analyseVacf(store: StorePartial, layout: SiteLayout, ctx: PassCo
         unit: 'A^2/ps',
       },
     });
-  }
+  });
   return {
     groups,
     velocitySource: source,
     dimensions: dims,
-    frames: store.frames,
+    frames: info.frames,
     frameInterval: dt,
-    driftRemoved: store.com !== null,
-    driftNote: driftDescription(store, ctx.topology),
-    bytesHeld: storeBytes(store),
+    driftRemoved: info.com !== null,
+    driftNote: driftDescription(info, ctx.topology),
+    bytesHeld: read.bytesHeld,
+    reads: read.reads,
+    memoryNote: read.note ?? null,
     rules: {
       plateau:
         `earliest window of ${Math.round(100 * (opts.plateauSpan ?? DEFAULT_PLATEAU_SPAN))}% of the lags a segment holds (at least ${MIN_PLATEAU_POINTS}; ` +

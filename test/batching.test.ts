@@ -9,27 +9,10 @@ import { describe, expect, it } from 'vitest';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { main } from '../src/cli.js';
+import { maxDiff, runJson } from './helpers/batch-runs.js';
 import { Random } from '../src/random.js';
 import { parseByteSize } from '../src/commands/batching.js';
 import { UsageError } from '../src/errors.js';
-
-/** Run the CLI with --json, capturing stdout; returns the parsed envelope. */
-async function runJson(args: string[]): Promise<{ code: number; json: any; err: string }> {
-  const out: string[] = [];
-  const err: string[] = [];
-  const o = process.stdout.write.bind(process.stdout);
-  const e = process.stderr.write.bind(process.stderr);
-  (process.stdout as unknown as { write: (s: string) => boolean }).write = (s: string) => (out.push(String(s)), true);
-  (process.stderr as unknown as { write: (s: string) => boolean }).write = (s: string) => (err.push(String(s)), true);
-  try {
-    const code = await main(['node', 'sojourn', ...args, '--json', '--quiet', '--threads', '1']);
-    return { code, json: code === 0 ? JSON.parse(out.join('')) : null, err: err.join('') };
-  } finally {
-    (process.stdout as unknown as { write: typeof o }).write = o;
-    (process.stderr as unknown as { write: typeof e }).write = e;
-  }
-}
 
 /** Extended XYZ of random walks in a 20 Å cube (wrapped), with velocities; 2 species. */
 function writeWalks(path: string, atoms: number, frames: number, seed: number): void {
@@ -49,27 +32,6 @@ function writeWalks(path: string, atoms: number, frames: number, seed: number): 
   writeFileSync(path, lines.join('\n') + '\n');
 }
 
-/** Largest relative difference between numbers found at the same place in two JSON trees. */
-function maxRelDiff(a: unknown, b: unknown, skip: Set<string>, path = ''): number {
-  if (typeof a === 'number' && typeof b === 'number') {
-    if (a === b) return 0;
-    return Math.abs(a - b) / Math.max(Math.abs(a), Math.abs(b), 1e-300);
-  }
-  if (Array.isArray(a) && Array.isArray(b)) {
-    expect(a.length, path).toBe(b.length);
-    return a.reduce((m: number, x, i) => Math.max(m, maxRelDiff(x, b[i], skip, `${path}[${i}]`)), 0);
-  }
-  if (a && b && typeof a === 'object' && typeof b === 'object') {
-    let m = 0;
-    for (const k of Object.keys(a as object)) {
-      if (skip.has(k)) continue;
-      m = Math.max(m, maxRelDiff((a as Record<string, unknown>)[k], (b as Record<string, unknown>)[k], skip, `${path}.${k}`));
-    }
-    return m;
-  }
-  expect(a, path).toEqual(b);
-  return 0;
-}
 
 describe('--max-memory: batched reads equal one read', () => {
   const dir = mkdtempSync(join(tmpdir(), 'sojourn-batch-'));
@@ -92,7 +54,7 @@ describe('--max-memory: batched reads equal one read', () => {
     expect(rb.reads).toBeGreaterThanOrEqual(4);
     expect(rb.bytesHeld).toBeLessThanOrEqual(100_000);
     expect(rb.memoryNote).toMatch(/batches/);
-    expect(maxRelDiff(r1, rb, skip)).toBeLessThan(1e-9);
+    expect(maxDiff(r1, rb, skip)).toBeLessThan(1e-9);
   });
 
   it('conductivity: same Nernst–Einstein, Einstein–Helfand and Green–Kubo values', async () => {
@@ -103,7 +65,7 @@ describe('--max-memory: batched reads equal one read', () => {
     expect(many.code).toBe(0);
     expect(many.json.results.reads).toBeGreaterThanOrEqual(4);
     expect(many.json.results.greenKubo).not.toBeNull();
-    expect(maxRelDiff(one.json.results, many.json.results, skip)).toBeLessThan(1e-9);
+    expect(maxDiff(one.json.results, many.json.results, skip)).toBeLessThan(1e-9);
     rmSync(dir, { recursive: true, force: true });
   });
 });

@@ -6,15 +6,27 @@
  * need is a sum over sites (analyses/msd.ts `GroupSums`), so the batches' sums add up to those of
  * one read, and the results agree to round-off. Batched reads run on one thread (the frames of a
  * batch are not split over workers) and cannot write --partial-out.
+ *
+ * The VACF (analyses/vacf.ts `VacfGroupSums`) is a site sum as well: vacf and diffusion add its
+ * batch sums before the division by the number of sites. `readStoreInBatches` is the loop those
+ * commands and the report share: one coordinate store per read holding the batch's sites (the
+ * first read may carry further passes, e.g. the report's streaming analyses), and the run's
+ * records (cell, drift, unwrapping, collective charge sums) without coordinates afterwards.
  */
 import { openTrajectory } from '../../readers/index.js';
 import { countFrames } from '../../readers/scan.js';
 import { parseFrameRange } from '../runner.js';
 import { UsageError } from '../errors.js';
-import { mergeSource } from './parallel.js';
+import { mergeSource, workerCapture } from './parallel.js';
 import { runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
-import type { Pass, Topology, Warnings } from '../types.js';
-import type { SiteLayout } from '../../analyses/msd.js';
+import type { Pass, PassContext, Topology, Warnings } from '../types.js';
+import {
+  storeBytes,
+  storePass,
+  type SiteLayout,
+  type StoreOptions,
+  type StorePartial,
+} from '../../analyses/msd.js';
 
 const UNITS: Record<string, number> = {
   b: 1,
@@ -56,28 +68,40 @@ export interface SiteBatchPlan {
   limit: number;
 }
 
-/** Topology of the first frame of a file (read and stopped). */
-async function firstTopology(file: string, opts: TrajectoryOptions): Promise<Topology> {
+/** What the first frame of a file tells a plan: its topology and whether it carries velocities. */
+export interface FirstFrameInfo {
+  topology: Topology;
+  velocities: boolean;
+}
+
+/** Bytes per stored site and frame: a number, or a rule on the first frame (e.g. 48 with velocities, else 24). */
+export type BytesPerSiteFrame = number | ((first: FirstFrameInfo) => number);
+
+/** Topology and velocity presence of the first frame of a file (read and stopped). */
+async function firstFrame(file: string, opts: TrajectoryOptions): Promise<FirstFrameInfo> {
   const input = await openTrajectory(file, { format: opts.format, strict: false, warnings: [] });
-  for await (const f of input.frames()) return f.topology;
+  for await (const f of input.frames()) return { topology: f.topology, velocities: f.velocities !== null };
   throw new UsageError(`${file}: no complete frame`);
 }
 
 /**
- * Plan the site batches for a memory limit: sites × frames × bytesPerSiteFrame (+ 48 bytes per
- * frame for the centre-of-mass and collective series) against `limit`; batches are sized with
- * batchBytesPerSiteFrame (a batched read may hold less per site, e.g. no site velocities). Null when there is no
- * limit, when partial files are being merged, or when one read fits. Reads the first frame for
- * the layout and counts the frames of the file.
+ * Plan the site batches for a memory limit: sites × frames × bytesPerSiteFrame (+ bytesPerFrame,
+ * default 48, per frame for the centre-of-mass and collective series) against `limit`; batches are sized with
+ * batchBytesPerSiteFrame (a batched read may hold less per site, e.g. no site velocities). Either
+ * may be a rule on the first frame (`BytesPerSiteFrame`). Null when there is no limit, when
+ * partial files are being merged, in a worker thread (its parent found that one read fits:
+ * batched runs use no workers), or when one read fits. Reads the first frame for the layout and
+ * counts the frames of the file.
  */
 export async function planSiteBatches(
   file: string,
   opts: TrajectoryOptions & { maxMemory?: string },
   layout: (t: Topology) => SiteLayout,
-  bytesPerSiteFrame: number,
-  batchBytesPerSiteFrame = bytesPerSiteFrame,
+  bytesPerSiteFrame: BytesPerSiteFrame,
+  batchBytesPerSiteFrame: BytesPerSiteFrame = bytesPerSiteFrame,
+  bytesPerFrame = 48,
 ): Promise<SiteBatchPlan | null> {
-  if (opts.maxMemory === undefined || mergeSource()) return null;
+  if (opts.maxMemory === undefined || mergeSource() || workerCapture()) return null;
   const limit = parseByteSize(opts.maxMemory);
   if (file === '-') throw new UsageError('--max-memory needs a file: standard input cannot be read more than once');
   const total = await countFrames(file, opts.format);
@@ -86,8 +110,12 @@ export async function planSiteBatches(
     const r = parseFrameRange(opts.frames);
     frames = Math.max(0, Math.ceil((Math.min(total, r.to) - r.from) / r.stride));
   }
-  const sites = layout(await firstTopology(file, opts)).map.count;
-  const perFrameExtra = 48;
+  const first = await firstFrame(file, opts);
+  const sites = layout(first.topology).map.count;
+  const rule = (b: BytesPerSiteFrame) => (typeof b === 'number' ? b : b(first));
+  bytesPerSiteFrame = rule(bytesPerSiteFrame);
+  batchBytesPerSiteFrame = rule(batchBytesPerSiteFrame);
+  const perFrameExtra = bytesPerFrame;
   const bytesNeeded = sites * frames * bytesPerSiteFrame + frames * perFrameExtra;
   if (bytesNeeded <= limit) return null;
   const perSite = Math.max(1, frames) * batchBytesPerSiteFrame;
@@ -116,8 +144,9 @@ export function groupSitesInBatch(layout: SiteLayout, batch: Int32Array): Int32A
 }
 
 /**
- * Read the file once per batch (on one thread), calling `each` with the run of every read.
- * Warnings repeated by every read are kept once.
+ * Read the file once per batch (on one thread), calling `each` with the run of every read; when
+ * `each` returns false the remaining batches are not read. Warnings repeated by every read are
+ * kept once.
  */
 export async function readInBatches(
   file: string,
@@ -125,7 +154,7 @@ export async function readInBatches(
   plan: SiteBatchPlan,
   passesFor: (batch: Int32Array, index: number) => Pass[],
   warnings: Warnings,
-  each: (run: TrajectoryRun, batch: Int32Array, index: number) => void,
+  each: (run: TrajectoryRun, batch: Int32Array, index: number) => void | boolean,
 ): Promise<void> {
   const seen = new Set(warnings);
   for (const [i, batch] of plan.batches.entries()) {
@@ -137,15 +166,76 @@ export async function readInBatches(
         warnings.push(x);
       }
     }
-    each(run, batch, i);
+    if (each(run, batch, i) === false) break;
   }
 }
 
-/** Text for the result: how many reads and how much was held. */
+/** Outcome of `readStoreInBatches`. */
+export interface BatchedStoreRun {
+  /** The first read: its input record and partials (index 0, the store's, is dropped (null); then the extra passes'). */
+  first: TrajectoryRun;
+  /** The run's context with the command's warnings. */
+  ctx: PassContext;
+  /**
+   * The run's records without coordinates: frames, cell volume, drift (centre-of-mass series),
+   * velocity source and the first read's collective charge sums; unwrapping records counted once.
+   */
+  info: StorePartial;
+  /** Reads made, the largest store held at once (bytes) and the note for the result (`batchNote`: the plan's batches). */
+  reads: number;
+  bytesHeld: number;
+  note: string;
+}
+
+/**
+ * Read the file once per batch of sites with a coordinate store holding that batch
+ * (`store(batch, index)` gives its options; `sites` is set here), plus `firstPasses` on the
+ * first read only, and hand each read's store to `each` (the analyses add their site sums
+ * there); `each` returning false ends the reading early. Long unwrapping steps: when every read
+ * unwraps the same atoms (drift removal or collective sums need all of them) the first read's
+ * count stands, else (disjoint atoms) the counts add.
+ */
+export async function readStoreInBatches(
+  file: string,
+  opts: TrajectoryOptions,
+  plan: SiteBatchPlan,
+  store: (batch: Int32Array, index: number) => Omit<StoreOptions, 'sites'>,
+  warnings: Warnings,
+  each: (store: StorePartial, batch: Int32Array, run: TrajectoryRun, index: number) => void | boolean,
+  firstPasses: Pass[] = [],
+): Promise<BatchedStoreRun> {
+  let first: TrajectoryRun | null = null;
+  let lastCtx: PassContext | null = null;
+  let info: StorePartial | null = null;
+  let held = 0;
+  let reads = 0;
+  const passesFor = (sites: Int32Array, i: number): Pass[] => [storePass({ ...store(sites, i), sites }) as Pass, ...(i === 0 ? firstPasses : [])];
+  await readInBatches(file, opts, plan, passesFor, warnings, (run, batch, i) => {
+    const s = run.partials[0] as StorePartial;
+    reads++;
+    // Nothing below may keep a read's store (its coordinates) past this call, or two batches
+    // would be held at once during the next read: the first read is kept without its store.
+    first ??= { ...run, partials: [null, ...run.partials.slice(1)] };
+    lastCtx = run.ctx;
+    held = Math.max(held, storeBytes(s));
+    // No coordinates; an empty velocity list (not null) keeps the velocity source ('file').
+    if (!info) info = { ...s, chunks: [], chunkFrames: [], velocityChunks: s.velocityChunks ? [] : null };
+    else {
+      const same = s.unwrapAtoms.length === info.unwrapAtoms.length && s.unwrapAtoms.every((a, k) => a === info!.unwrapAtoms[k]);
+      if (!same) info = { ...info, longSteps: info.longSteps + s.longSteps, maxStepFraction: Math.max(info.maxStepFraction, s.maxStepFraction) };
+    }
+    return each(s, batch, run, i);
+  });
+  return { first: first!, ctx: { ...lastCtx!, warnings }, info: info!, reads, bytesHeld: held, note: batchNote(plan, held) };
+}
+
+/** Text for the result: how many reads and how much was held (MB = 10⁶ bytes, three significant figures). */
 export function batchNote(plan: SiteBatchPlan, bytesHeld: number): string {
+  const mb = (bytes: number) => `${Number((bytes / 1e6).toPrecision(3))} MB`;
   return (
-    `--max-memory ${(plan.limit / 1e6).toFixed(0)} MB: ${plan.sites} sites × ${plan.frames} frames would need ` +
-    `${(plan.bytesNeeded / 1e6).toFixed(0)} MB, so the sites were processed in ${plan.batches.length} batches over ` +
-    `${plan.batches.length} reads of the file (at most ${(bytesHeld / 1e6).toFixed(1)} MB held at once)`
+    `--max-memory ${mb(plan.limit)}: ${plan.sites} sites × ${plan.frames} frames would need ` +
+    `${mb(plan.bytesNeeded)}, so the sites were processed in ${plan.batches.length} batches over ` +
+    `${plan.batches.length} reads of the file (at most ${mb(bytesHeld)} held at once)`
   );
 }
+

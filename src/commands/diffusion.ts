@@ -4,10 +4,39 @@
  * side, flagged when they disagree by more than DISAGREEMENT_FACTOR combined standard errors.
  */
 import type { Command } from 'commander';
-import { analyseMsd, speciesLayout, storePass, type MsdResult } from '../../analyses/msd.js';
-import { analyseVacf, type VacfResult } from '../../analyses/vacf.js';
-import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
 import {
+  addGroupSums,
+  analyseMsd,
+  finishMsd,
+  msdPlan,
+  msdSums,
+  planeComponents,
+  requireFrameInterval,
+  speciesLayout,
+  storePass,
+  type GroupSums,
+  type MsdOptions,
+  type MsdPlan,
+  type MsdResult,
+  type SiteLayout,
+} from '../../analyses/msd.js';
+import {
+  addVacfSums,
+  analyseVacf,
+  finishVacf,
+  vacfPlan,
+  vacfSums,
+  velocityFrames,
+  type VacfGroupSums,
+  type VacfOptions,
+  type VacfPlan,
+  type VacfResult,
+} from '../../analyses/vacf.js';
+import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
+import { vacfStoreBytes } from './vacf.js';
+import {
+  addMemoryOption,
   addPlateauOptions,
   addSiteOptions,
   addWindowOptions,
@@ -23,6 +52,7 @@ import { finishPasses } from '../runner.js';
 import { formatSig, formatTable } from '../output.js';
 import { quantity, type Quantity } from '../types.js';
 import type { StorePartial } from '../../analyses/msd.js';
+import type { Topology } from '../types.js';
 import { CAUTION } from '../caution.js';
 
 /** Two estimates disagree when |D1 − D2| > DISAGREEMENT_FACTOR · √(σ1² + σ2²). */
@@ -50,6 +80,7 @@ export function compareEstimates(a: Quantity, b: Quantity): Agreement {
 }
 
 interface DiffusionCliOptions extends TrajectoryOptions, SiteCliOptions, WindowCliOptions, PlateauCliOptions {
+  maxMemory?: string;
   viscosity?: string;
   temperature?: string;
   alpha2?: boolean;
@@ -68,8 +99,51 @@ export interface DiffusionComparison {
 export interface DiffusionResult {
   groups: DiffusionComparison[];
   disagreementRule: string;
+  /** Reads of the file, the largest store held at once (bytes), and why the sites were batched (or null). */
+  reads: number;
+  bytesHeld: number;
+  memoryNote: string | null;
   msd: MsdResult;
   vacf: VacfResult;
+}
+
+/**
+ * MSD and VACF of a run whose sites did not fit in memory at once: one read per batch of sites
+ * (positions and, when the file has them, velocities of the batch), each read adding its MSD site
+ * sums (`msdSums`) and VACF site sums (`vacfSums`) to the totals; both analyses finish from the
+ * totals (division by the number of sites after the addition), as one read would.
+ */
+export async function batchedDiffusion(
+  file: string,
+  opts: TrajectoryOptions,
+  plan: SiteBatchPlan,
+  layoutSpec: (t: Topology) => SiteLayout,
+  removeDrift: boolean,
+  mo: MsdOptions,
+  vo: VacfOptions,
+  warnings: string[],
+): Promise<{ msd: MsdResult; vacf: VacfResult; run: TrajectoryRun; reads: number; bytesHeld: number; note: string }> {
+  let msums: GroupSums[] | null = null;
+  let vsums: VacfGroupSums[] | null = null;
+  let mplan: MsdPlan | null = null;
+  let vplan: VacfPlan | null = null;
+  const comps = planeComponents(mo.plane);
+  const b = await readStoreInBatches(file, opts, plan, () => ({ layout: layoutSpec, removeDrift, keepVelocities: true }), warnings, (store, batch, run) => {
+    const layout = layoutSpec(run.ctx.topology);
+    const dt = requireFrameInterval(run.ctx);
+    const gs = groupSitesInBatch(layout, batch);
+    mplan ??= msdPlan(store.frames, dt, mo, true);
+    vplan ??= vacfPlan(velocityFrames(store), vo);
+    const m = msdSums(store, layout, mplan, comps, gs);
+    const v = vacfSums(store, layout, vplan, comps, dt, gs);
+    msums = msums ? msums.map((s, i) => addGroupSums(s, m[i]!)) : m;
+    vsums = vsums ? vsums.map((s, i) => addVacfSums(s, v[i]!)) : v;
+  });
+  const layout = layoutSpec(b.ctx.topology);
+  const read = { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
+  const msd = finishMsd(msums!, mplan!, b.info, layout, b.ctx, mo, read);
+  const vacf = finishVacf(vsums!, vplan!, b.info, layout, b.ctx, vo, read);
+  return { msd, vacf, run: b.first, reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
 }
 
 /** Pair the MSD and VACF groups (same layout, same order) and compare them. */
@@ -114,6 +188,7 @@ export function renderDiffusion(file: string, r: DiffusionResult): string {
   out.push(`MSD window: ${r.msd.rules.window}; ${r.msd.rules.uncertainty}`);
   out.push(`VACF plateau: ${r.vacf.rules.plateau}; velocities from ${r.vacf.velocitySource}`);
   out.push(`drift: ${r.msd.driftNote}`);
+  if (r.memoryNote) out.push(`memory: ${r.memoryNote}`);
   for (const g of r.msd.groups) for (const n of g.notes) out.push(`${g.label} (MSD): ${n}`);
   for (const g of r.vacf.groups) for (const n of g.notes) out.push(`${g.label} (VACF): ${n}`);
   out.push('');
@@ -133,21 +208,38 @@ export function register(program: Command): void {
     .option('--viscosity <eta>', 'solvent viscosity for the Yeh–Hummer correction of the MSD value (with --temperature)')
     .option('--temperature <T>', 'temperature for the Yeh–Hummer correction')
     .option('--no-alpha2', 'skip the non-Gaussian parameter');
+  addMemoryOption(cmd);
   addTrajectoryOptions(cmd).action(async (file: string, opts: DiffusionCliOptions) => {
     const warnings: string[] = [];
     const mo = msdOptionsFrom(opts);
     const po = plateauOptions(opts);
     const so = siteOptions(opts);
-    const layoutSpec = (t: Parameters<typeof speciesLayout>[0]) => speciesLayout(t, so);
-    const pass = storePass({ layout: layoutSpec, removeDrift: !so.keepDrift, keepVelocities: true });
-    const run = await runOnTrajectory(file, opts, [pass], warnings);
-    const store = finishPasses([pass], run.partials, run.ctx).store as StorePartial;
-    const layout = layoutSpec(run.ctx.topology);
-    const msd = analyseMsd(store, layout, run.ctx, mo);
-    const vacf = analyseVacf(store, layout, run.ctx, { ...po, plane: so.plane });
+    const vo: VacfOptions = { ...po, plane: so.plane };
+    const layoutSpec = (t: Topology) => speciesLayout(t, so);
+    // One store serves both: positions (24 B per site and frame) and, when the file has them,
+    // velocities (another 24 B).
+    const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes);
+    let msd: MsdResult;
+    let vacf: VacfResult;
+    let run: TrajectoryRun;
+    let memory: { reads: number; bytesHeld: number; memoryNote: string | null };
+    if (plan) {
+      const b = await batchedDiffusion(file, opts, plan, layoutSpec, !so.keepDrift, mo, vo, warnings);
+      ({ msd, vacf, run } = b);
+      memory = { reads: b.reads, bytesHeld: b.bytesHeld, memoryNote: b.note };
+    } else {
+      const pass = storePass({ layout: layoutSpec, removeDrift: !so.keepDrift, keepVelocities: true });
+      run = await runOnTrajectory(file, opts, [pass], warnings);
+      const store = finishPasses([pass], run.partials, run.ctx).store as StorePartial;
+      const layout = layoutSpec(run.ctx.topology);
+      msd = analyseMsd(store, layout, run.ctx, mo);
+      vacf = analyseVacf(store, layout, run.ctx, vo);
+      memory = { reads: 1, bytesHeld: msd.bytesHeld, memoryNote: null };
+    }
     const results: DiffusionResult = {
       groups: compareDiffusion(msd, vacf),
       disagreementRule: `flagged when |D_MSD − D_VACF| > ${DISAGREEMENT_FACTOR}·√(σ_MSD² + σ_VACF²)`,
+      ...memory,
       msd,
       vacf,
     };

@@ -14,8 +14,6 @@ import {
   planeComponents,
   requireFrameInterval,
   speciesLayout,
-  storePass,
-  storeBytes,
   YEH_HUMMER_PLANE_ERROR,
   type GroupSums,
   type MsdOptions,
@@ -26,7 +24,7 @@ import {
   type StoreOptions,
   type StorePartial,
 } from '../../analyses/msd.js';
-import { batchNote, groupSitesInBatch, planSiteBatches, readInBatches, type SiteBatchPlan } from './batching.js';
+import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
 import type { PassContext, Topology } from '../types.js';
 import type { TrajectoryRun } from './common.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
@@ -159,29 +157,24 @@ export async function batchedMsd(
 ): Promise<{ result: MsdResult; run: TrajectoryRun; store: StorePartial; layout: SiteLayout; ctx: PassContext }> {
   let sums: GroupSums[] | null = null;
   let mplan: MsdPlan | null = null;
-  let last: { run: TrajectoryRun; store: StorePartial; layout: SiteLayout } | null = null;
-  let held = 0;
-  let longSteps = 0;
-  let maxStep = 0;
-  let collective: Pick<StorePartial, 'collective' | 'collectiveVelocity' | 'collectiveAtomCharge'> | null = null;
-  const passesFor = (sites: Int32Array, i: number) => [storePass({ layout: layoutSpec, removeDrift, keepVelocities: false, sites, ...(i === 0 ? firstRead : {}) })];
-  await readInBatches(file, opts, plan, passesFor, warnings, (run, batch) => {
-    const store = run.partials[0] as StorePartial;
-    const layout = layoutSpec(run.ctx.topology);
-    mplan ??= msdPlan(store.frames, requireFrameInterval(run.ctx), mo, true);
-    const part = msdSums(store, layout, mplan, planeComponents(mo.plane), groupSitesInBatch(layout, batch));
-    sums = sums ? sums.map((s, i) => addGroupSums(s, part[i]!)) : part;
-    held = Math.max(held, storeBytes(store));
-    longSteps += store.longSteps;
-    maxStep = Math.max(maxStep, store.maxStepFraction);
-    collective ??= { collective: store.collective, collectiveVelocity: store.collectiveVelocity, collectiveAtomCharge: store.collectiveAtomCharge };
-    // Keep only the run's records (and the first read's collective series), not its coordinates.
-    last = { run, store: { ...store, ...collective, chunks: [], chunkFrames: [], velocityChunks: null, longSteps, maxStepFraction: maxStep }, layout };
-  });
-  const { run, store, layout } = last!;
-  const ctx: PassContext = { ...run.ctx, warnings };
-  const result = finishMsd(sums!, mplan!, store, layout, ctx, mo, { reads: plan.batches.length, bytesHeld: held, note: batchNote(plan, held) });
-  return { result, run, store, layout, ctx };
+  // readStoreInBatches keeps no read's coordinates past its callback, so one batch is held at a
+  // time, and counts long unwrapping steps once when every read unwraps the same atoms.
+  const r = await readStoreInBatches(
+    file,
+    opts,
+    plan,
+    (_batch, i) => ({ layout: layoutSpec, removeDrift, keepVelocities: false, ...(i === 0 ? firstRead : {}) }),
+    warnings,
+    (store, batch, run) => {
+      const layout = layoutSpec(run.ctx.topology);
+      mplan ??= msdPlan(store.frames, requireFrameInterval(run.ctx), mo, true);
+      const part = msdSums(store, layout, mplan, planeComponents(mo.plane), groupSitesInBatch(layout, batch));
+      sums = sums ? sums.map((s, i) => addGroupSums(s, part[i]!)) : part;
+    },
+  );
+  const layout = layoutSpec(r.ctx.topology);
+  const result = finishMsd(sums!, mplan!, r.info, layout, r.ctx, mo, { reads: r.reads, bytesHeld: r.bytesHeld, note: r.note });
+  return { result, run: r.first, store: r.info, layout, ctx: r.ctx };
 }
 
 interface MsdCliOptions extends TrajectoryOptions, SiteCliOptions, WindowCliOptions {

@@ -10,6 +10,12 @@
  * tensor → viscosity and column convergence; energies → column convergence) are read after the
  * trajectory. Joins and files come from src/report/build.ts; the directory is written atomically
  * by src/report/write.ts.
+ *
+ * With --max-memory and a store that would exceed it, the streaming passes run on the first read
+ * only and the store holds one batch of atoms per read (src/commands/batching.ts): every read adds
+ * its site sums of the MSD (per species, and per charge group when the conductivity splits a
+ * species) and of the VACF; the first read also keeps the collective sums Σq r and Σq v per frame
+ * for the conductivity. The analyses finish from the totals, as from one read.
  */
 import * as path from 'node:path';
 import { isMainThread } from 'node:worker_threads';
@@ -19,12 +25,43 @@ import { overviewPass, massDensity, type OverviewResult } from '../../analyses/o
 import { framewiseObservables, type FramewiseResult } from '../../analyses/framewise.js';
 import { rdfPass, mergeRdfPartials, type RdfPartial, type RdfSpec } from '../../analyses/rdf.js';
 import { shellPass, type ShellResult } from '../../analyses/shell.js';
-import { analyseMsd, speciesLayout, storePass, yehHummerBoxLength, type MsdResult, type StorePartial } from '../../analyses/msd.js';
-import { analyseVacf, velocitySourceOf, type VacfResult } from '../../analyses/vacf.js';
+import {
+  addGroupSums,
+  analyseMsd,
+  finishMsd,
+  msdPlan,
+  msdSums,
+  planeComponents,
+  speciesLayout,
+  storePass,
+  yehHummerBoxLength,
+  type GroupSums,
+  type MsdOptions,
+  type MsdPlan,
+  type MsdResult,
+  type ReadInfo,
+  type SiteLayout,
+  type StorePartial,
+} from '../../analyses/msd.js';
+import {
+  addVacfSums,
+  analyseVacf,
+  finishVacf,
+  vacfPlan,
+  vacfSums,
+  velocityFrames,
+  velocitySourceOf,
+  type VacfGroupSums,
+  type VacfPlan,
+  type VacfResult,
+} from '../../analyses/vacf.js';
 import { analyseConductivity, atomCharges, parseChargeRules, type ChargeRule, type ConductivityResult } from '../../analyses/conductivity.js';
 import { analyseViscosity, shearComponents, type StressColumns } from '../../analyses/viscosity.js';
 import { analyseSeries } from '../../analyses/converge.js';
-import { addTrajectoryOptions, parsePositiveTime, printWarnings, runOnTrajectory, type TrajectoryOptions } from './common.js';
+import { addTrajectoryOptions, parsePositiveTime, printWarnings, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
+import { addMemoryOption } from './msd.js';
+import { vacfStoreBytes } from './vacf.js';
 import { currentInvocation, workerCapture } from './parallel.js';
 import { uniformStep } from './converge.js';
 import { pickStressColumns } from './viscosity.js';
@@ -40,6 +77,7 @@ import type { ReportData } from '../report/build.js';
 import type { StagedDirectory } from '../report/write.js';
 
 interface ReportCliOptions extends TrajectoryOptions {
+  maxMemory?: string;
   out: string;
   temperature: string;
   pressure?: string;
@@ -154,6 +192,142 @@ function refuseInputsInside(out: string, inputs: string[]): void {
   }
 }
 
+/** The MSD options of the report (its species MSD and the conductivity's charge groups). */
+const REPORT_MSD: MsdOptions = { nonGaussian: false };
+
+/** How the report's transport analyses finish: from one stored read, or from batch sums. */
+interface TransportFinishers {
+  msd(): MsdResult;
+  vacf(): VacfResult;
+  /** The conductivity on the charge layout, given the species MSD when its groups are the same. */
+  conductivity(cl: ReturnType<typeof chargeLayoutOnStore>, shared: MsdResult | undefined, temperatureK: number): ConductivityResult;
+}
+
+/** Finishers on a store holding every atom (one read). */
+function storeFinishers(store: StorePartial, layout: SiteLayout, ctx: PassContext): TransportFinishers {
+  return {
+    msd: () => analyseMsd(store, layout, ctx, REPORT_MSD),
+    vacf: () => analyseVacf(store, layout, ctx, {}),
+    conductivity: (cl, shared, temperatureK) => analyseConductivity(store, cl, ctx, { temperature: temperatureK }, shared),
+  };
+}
+
+/** Result of the report's batched reads: the first read (streaming passes) and the transport finishers. */
+interface BatchedReport {
+  first: TrajectoryRun;
+  ctx: PassContext;
+  info: StorePartial;
+  finishers: TransportFinishers;
+  note: string | null;
+}
+
+/**
+ * The report's reads when the store does not fit: `streaming` passes on the first read only,
+ * the store (every atom of `layoutSpec`, velocities when the file has them, drift removed) one
+ * batch of atoms per read. Each read adds its MSD site sums (species groups, and the charge
+ * groups when they differ from the species), and with velocities from the file its VACF site
+ * sums; the first read keeps Σq r and Σq v per frame for the conductivity (`collectiveCharges`).
+ * When the run has no frame times (no transport) the reading stops after the first read.
+ */
+async function batchedReport(
+  file: string,
+  opts: ReportCliOptions,
+  plan: SiteBatchPlan,
+  layoutSpec: (t: Topology) => SiteLayout,
+  rules: ChargeRule[] | null,
+  streaming: Pass[],
+  warnings: string[],
+): Promise<BatchedReport> {
+  const comps = planeComponents(undefined);
+  let mplan: MsdPlan | null = null;
+  let vplan: VacfPlan | null = null;
+  let msdError: unknown = null;
+  let vacfError: unknown = null;
+  let msums: GroupSums[] | null = null;
+  let vsums: VacfGroupSums[] | null = null;
+  let clSums: GroupSums[] | null = null;
+  let cl: ReturnType<typeof chargeLayoutOnStore> | null = null;
+  const chargedLayout = (t: Topology) => {
+    const l = layoutSpec(t);
+    return { ...l, siteCharges: chargesFor(t, rules) ?? new Float64Array(l.map.count) };
+  };
+  const storeOptions = (_: Int32Array, i: number) => ({
+    layout: chargedLayout,
+    removeDrift: true,
+    keepVelocities: true,
+    ...(i === 0 ? { collectiveCharges: (l: SiteLayout) => (l as ReturnType<typeof chargedLayout>).siteCharges } : {}),
+  });
+  const b = await readStoreInBatches(
+    file,
+    opts,
+    plan,
+    storeOptions,
+    warnings,
+    (store, batch, run, i) => {
+      const dt = run.ctx.frameInterval;
+      if (dt === null) return false;
+      const topology = run.ctx.topology;
+      const layout = layoutSpec(topology);
+      if (i === 0) {
+        // An AnalysisError here (too few frames) is reported when the analysis finishes.
+        try {
+          mplan = msdPlan(store.frames, dt, REPORT_MSD, true);
+        } catch (e) {
+          if (!(e instanceof AnalysisError)) throw e;
+          msdError = e;
+        }
+        if (velocitySourceOf(store) === 'file') {
+          try {
+            vplan = vacfPlan(velocityFrames(store), {});
+          } catch (e) {
+            if (!(e instanceof AnalysisError)) throw e;
+            vacfError = e;
+          }
+        }
+        const charges = chargesFor(topology, rules);
+        if (charges && store.volumeFrames > 0) {
+          const c = chargeLayoutOnStore(layout, charges);
+          if (c.groups.length > 0 && !c.sameGroups) cl = c;
+        }
+      }
+      if (!mplan && !vplan) return false;
+      const gs = groupSitesInBatch(layout, batch);
+      if (mplan) {
+        const m = msdSums(store, layout, mplan, comps, gs);
+        msums = msums ? msums.map((x, k) => addGroupSums(x, m[k]!)) : m;
+        if (cl) {
+          const c = msdSums(store, cl, mplan, comps, groupSitesInBatch(cl, batch));
+          clSums = clSums ? clSums.map((x, k) => addGroupSums(x, c[k]!)) : c;
+        }
+      }
+      if (vplan) {
+        const v = vacfSums(store, layout, vplan, comps, dt, gs);
+        vsums = vsums ? vsums.map((x, k) => addVacfSums(x, v[k]!)) : v;
+      }
+      return true;
+    },
+    streaming,
+  );
+  const { ctx, info } = b;
+  const layout = layoutSpec(ctx.topology);
+  const read: ReadInfo = { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
+  const need = <T>(x: T | null, error: unknown): T => {
+    if (error) throw error;
+    if (x === null) throw new Error('report: batch sums missing');
+    return x;
+  };
+  const finishers: TransportFinishers = {
+    msd: () => finishMsd(need(msums, msdError), mplan!, info, layout, ctx, REPORT_MSD, read),
+    vacf: () => finishVacf(need(vsums, vacfError), vplan!, info, layout, ctx, {}, read),
+    conductivity: (charged, shared, temperatureK) => {
+      const m = shared ?? finishMsd(need(clSums, msdError), mplan!, info, charged, ctx, REPORT_MSD, read);
+      return analyseConductivity(info, charged, ctx, { temperature: temperatureK }, m, read);
+    },
+  };
+  // Stopped after the first read (no frame times, no transport): nothing was batched.
+  return { first: b.first, ctx, info, finishers, note: b.reads === plan.batches.length ? b.note : null };
+}
+
 /** Register the command on the program (src/commands/index.ts). */
 export function register(program: Command): void {
   const cmd = program
@@ -173,6 +347,7 @@ export function register(program: Command): void {
     .option('--shell <centre:around:cutoff>', 'also count neighbours of CENTRE within CUTOFF and their residence time (2 ps tolerance; repeatable), e.g. "Na:Sv:3.4A"', collect)
     .option('--rdf-bin-width <length>', 'g(r) bin width', '0.05A')
     .option('--rdf-r-max <length>', 'largest g(r) distance (default: half the smallest cell width)');
+  addMemoryOption(cmd);
   addTrajectoryOptions(cmd).action(async (file: string, opts: ReportCliOptions) => {
     const t0 = performance.now();
     const started = new Date();
@@ -191,33 +366,56 @@ export function register(program: Command): void {
     const pascalPerUnit = UNIT_FACTORS.pressure[opts.pressureUnit];
     const inputPaths = [file, ...(opts.pressure ? [opts.pressure] : []), ...(opts.energy ? [opts.energy] : [])];
     refuseInputsInside(opts.out, inputPaths);
+    // The store holds every atom: positions, and velocities when the file has them; per frame the
+    // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
+    const layoutSpec = (t: Topology) => speciesLayout(t, {});
+    const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
 
     // Workers (and a run whose partials are handed to a parent) only read frames: no output.
     const writesOutput = isMainThread && workerCapture() === null;
     let staged: StagedDirectory | null = null;
     if (writesOutput) staged = await (await import('../report/write.js')).stageDirectory(opts.out);
     try {
-      const layoutSpec = (t: Topology) => speciesLayout(t, {});
-      const store = storePass({ layout: layoutSpec, removeDrift: true, keepVelocities: true });
       const rdf = reportRdfPass({ rMax, binWidth, skipSameMolecule: false, blocks: null, method: 'auto' }, rules);
       const shellPasses = shells.map((s) => shellPass({ center: s.center, around: s.around, cutoff: s.cutoff, tolerance: 2 }));
-      const passes: Pass[] = [overviewPass, framewiseObservables, store, rdf, ...shellPasses] as Pass[];
-      const run = await runOnTrajectory(file, opts, passes, warnings);
-      const ctx = run.ctx;
+      let run: TrajectoryRun;
+      let ctx: PassContext;
+      let storeP: StorePartial;
+      // Partials of the streaming passes: overview, framewise, g(r), then the shells.
+      let streamed: unknown[];
+      let finishers: TransportFinishers;
+      let memoryNote: string | null = null;
+      if (plan) {
+        const streaming = [overviewPass, framewiseObservables, rdf, ...shellPasses] as Pass[];
+        const b = await batchedReport(file, opts, plan, layoutSpec, rules, streaming, warnings);
+        run = b.first;
+        ctx = b.ctx;
+        storeP = b.info;
+        streamed = run.partials.slice(1);
+        finishers = b.finishers;
+        memoryNote = b.note;
+      } else {
+        const store = storePass({ layout: layoutSpec, removeDrift: true, keepVelocities: true });
+        const passes: Pass[] = [overviewPass, framewiseObservables, store, rdf, ...shellPasses] as Pass[];
+        run = await runOnTrajectory(file, opts, passes, warnings);
+        ctx = run.ctx;
+        storeP = run.partials[2] as StorePartial;
+        streamed = [run.partials[0], run.partials[1], ...run.partials.slice(3)];
+        finishers = storeFinishers(storeP, layoutSpec(ctx.topology), ctx);
+      }
       const topology = ctx.topology;
       const skipped: Record<string, string> = {};
-      const overview = overviewPass.finish(run.partials[0] as never, ctx) as OverviewResult;
-      const framewise = framewiseObservables.finish(run.partials[1] as never, ctx) as FramewiseResult;
-      const storeP = run.partials[2] as StorePartial;
+      const overview = overviewPass.finish(streamed[0] as never, ctx) as OverviewResult;
+      const framewise = framewiseObservables.finish(streamed[1] as never, ctx) as FramewiseResult;
 
       // Structure.
       let structure: ReportData['structure'] = null;
-      const rdfOut = attempt('structure', skipped, () => rdf.finish(run.partials[3] as never, ctx));
+      const rdfOut = attempt('structure', skipped, () => rdf.finish(streamed[2] as never, ctx));
       if (rdfOut && 'skipped' in rdfOut) skipped.structure = rdfOut.skipped;
       else if (rdfOut) structure = rdfOut;
       const shellResults: ReportData['shells'] = [];
       shellPasses.forEach((p, i) => {
-        const r = attempt(`shell ${shells[i].text}`, skipped, () => p.finish(run.partials[4 + i] as never, ctx) as ShellResult);
+        const r = attempt(`shell ${shells[i].text}`, skipped, () => p.finish(streamed[3 + i] as never, ctx) as ShellResult);
         if (r) shellResults.push({ text: shells[i].text, result: r });
       });
 
@@ -241,8 +439,8 @@ export function register(program: Command): void {
       if (ctx.frameInterval === null) {
         skipped.transport = 'the trajectory carries no frame times: give the time between frames with --frame-interval (e.g. 0.2ps) for diffusion and conductivity';
       } else {
-        msd = attempt('msd', skipped, () => analyseMsd(storeP, layout, ctx, { nonGaussian: false }));
-        if (velocitySourceOf(storeP) === 'file') vacf = attempt('vacf', skipped, () => analyseVacf(storeP, layout, ctx, {}));
+        msd = attempt('msd', skipped, () => finishers.msd());
+        if (velocitySourceOf(storeP) === 'file') vacf = attempt('vacf', skipped, () => finishers.vacf());
         else {
           skipped.vacf = overview.hasVelocities
             ? 'some frames carry no velocities (the report does not estimate them from positions; `sojourn vacf` can)'
@@ -259,7 +457,7 @@ export function register(program: Command): void {
               const groups = cl.groups.map((g) => msd!.groups.find((m) => m.label === g.label));
               if (groups.every((g) => g !== undefined)) shared = { ...msd, groups: groups as MsdResult['groups'] };
             }
-            conductivity = attempt('conductivity', skipped, () => analyseConductivity(storeP, cl, ctx, { temperature: temperatureK }, shared));
+            conductivity = attempt('conductivity', skipped, () => finishers.conductivity(cl, shared, temperatureK));
           }
         }
       }
@@ -360,6 +558,7 @@ export function register(program: Command): void {
       if (opts.json) process.stdout.write(toJson(built.document) + '\n');
       else {
         process.stdout.write(renderTerminalSummary(built.summary, path.join(opts.out, 'report.html'), warnings.length) + '\n');
+        if (memoryNote) process.stdout.write(`memory: ${memoryNote}\n`);
         printWarnings(warnings, opts.quiet);
       }
     } catch (e) {

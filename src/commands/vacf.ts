@@ -4,16 +4,76 @@
  * spectrum (Hann-tapered cosine transform) in THz and cm⁻¹.
  */
 import type { Command } from 'commander';
-import { vacfPass, type VacfResult } from '../../analyses/vacf.js';
-import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
-import { addPlateauOptions, addSiteOptions, dTable, plateauOptions, siteOptions, type PlateauCliOptions, type SiteCliOptions } from './msd.js';
+import {
+  addVacfSums,
+  finishVacf,
+  vacfPass,
+  vacfPlan,
+  vacfSums,
+  velocityFrames,
+  type VacfGroupSums,
+  type VacfOptions,
+  type VacfPlan,
+  type VacfResult,
+} from '../../analyses/vacf.js';
+import { planeComponents, requireFrameInterval, speciesLayout, type SiteLayout } from '../../analyses/msd.js';
+import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import {
+  addMemoryOption,
+  addPlateauOptions,
+  addSiteOptions,
+  dTable,
+  plateauOptions,
+  siteOptions,
+  type PlateauCliOptions,
+  type SiteCliOptions,
+} from './msd.js';
+import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type FirstFrameInfo, type SiteBatchPlan } from './batching.js';
 import { finishPasses } from '../runner.js';
-import { formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputFile, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
+import type { Topology } from '../types.js';
 import { CAUTION } from '../caution.js';
 
 interface VacfCliOptions extends TrajectoryOptions, SiteCliOptions, PlateauCliOptions {
+  maxMemory?: string;
   csv?: string;
   spectrumCsv?: string;
+}
+
+/**
+ * Bytes a store for the VACF holds per site and frame: unwrapped positions (3 × 8 B, always
+ * kept; central differences need them) plus the site velocities (3 × 8 B) when the file carries
+ * them (judged on its first frame).
+ */
+export function vacfStoreBytes(first: FirstFrameInfo): number {
+  return first.velocities ? 48 : 24;
+}
+
+/**
+ * The VACF of a run whose sites did not fit in memory at once: one read per batch of sites, the
+ * groups' site sums (full-run and segment curves, `vacfSums`) added over the batches before
+ * `finishVacf` divides by the number of sites and integrates.
+ */
+export async function batchedVacf(
+  file: string,
+  opts: TrajectoryOptions,
+  plan: SiteBatchPlan,
+  layoutSpec: (t: Topology) => SiteLayout,
+  removeDrift: boolean,
+  vo: VacfOptions,
+  warnings: string[],
+): Promise<{ result: VacfResult; run: TrajectoryRun }> {
+  const comps = planeComponents(vo.plane);
+  let sums: VacfGroupSums[] | null = null;
+  let vplan: VacfPlan | null = null;
+  const b = await readStoreInBatches(file, opts, plan, () => ({ layout: layoutSpec, removeDrift, keepVelocities: true }), warnings, (store, batch, run) => {
+    const layout = layoutSpec(run.ctx.topology);
+    vplan ??= vacfPlan(velocityFrames(store), vo);
+    const part = vacfSums(store, layout, vplan, comps, requireFrameInterval(run.ctx), groupSitesInBatch(layout, batch));
+    sums = sums ? sums.map((s, i) => addVacfSums(s, part[i]!)) : part;
+  });
+  const result = finishVacf(sums!, vplan!, b.info, layoutSpec(b.ctx.topology), b.ctx, vo, { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note });
+  return { result, run: b.first };
 }
 
 /** Human-readable report of a VACF result. */
@@ -38,6 +98,11 @@ export function renderVacf(file: string, r: VacfResult): string {
   out.push(`uncertainty: ${r.rules.uncertainty}`);
   out.push(`spectrum: ${r.rules.spectrum}`);
   out.push(`drift: ${r.driftNote}`);
+  out.push(
+    r.memoryNote
+      ? `memory: ${r.memoryNote}`
+      : `memory: ${formatSig(r.bytesHeld / 2 ** 20, 4)} MiB held (stored positions${r.velocitySource === 'file' ? ' and velocities' : ''})`,
+  );
   for (const g of r.groups) {
     const s = g.spectrum;
     let k = 1;
@@ -82,14 +147,26 @@ export function register(program: Command): void {
     .description('velocity autocorrelation, Green–Kubo self-diffusion on its plateau, and the vibrational spectrum per species');
   addSiteOptions(cmd);
   addPlateauOptions(cmd, true);
+  addMemoryOption(cmd);
   cmd.option('--csv <file>', 'write the VACF and running integral to this CSV file').option('--spectrum-csv <file>', 'write the spectra to this CSV file');
   addTrajectoryOptions(cmd).action(async (file: string, opts: VacfCliOptions) => {
     const warnings: string[] = [];
     const po = plateauOptions(opts);
-    for (const f of [opts.csv, opts.spectrumCsv]) if (f) refuseOverwritingInputs(f, [file]);
-    const pass = vacfPass({ ...siteOptions(opts), ...po });
-    const run = await runOnTrajectory(file, opts, [pass], warnings);
-    const results = finishPasses([pass], run.partials, run.ctx).vacf as VacfResult;
+    // Before any reading: an output that cannot be written is found now, not after the run.
+    if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
+    if (opts.spectrumCsv) checkOutputFile(opts.spectrumCsv, [file], '--spectrum-csv');
+    const so = siteOptions(opts);
+    const layoutSpec = (t: Topology) => speciesLayout(t, so);
+    const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes);
+    let results: VacfResult;
+    let run: TrajectoryRun;
+    if (plan) {
+      ({ result: results, run } = await batchedVacf(file, opts, plan, layoutSpec, !so.keepDrift, { ...po, plane: so.plane }, warnings));
+    } else {
+      const pass = vacfPass({ ...so, ...po });
+      run = await runOnTrajectory(file, opts, [pass], warnings);
+      results = finishPasses([pass], run.partials, run.ctx).vacf as VacfResult;
+    }
     if (opts.csv) await writeFileAtomic(opts.csv, vacfCsv(results));
     if (opts.spectrumCsv) await writeFileAtomic(opts.spectrumCsv, spectrumCsv(results));
     emit('vacf', opts, [run.input], { ...opts }, results, warnings, () => renderVacf(file, results));
