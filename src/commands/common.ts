@@ -145,7 +145,10 @@ export async function readTrajectory(
     format: plan?.format ?? opts.format,
     strict: !!opts.strict,
     warnings,
-    ...(plan ? { hash: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
+    // A chunk of a parallel run: no hashing (the parent's scan did it) and no reading thread (the
+    // other threads fill the cores; a helper would only compete with them, and cost its start-up
+    // for every chunk).
+    ...(plan ? { hash: false, thread: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
   });
   const progress = progressFor(file, how.quiet);
   let out: RunOutput;
