@@ -132,8 +132,12 @@ export const ATOM_CEILING = 2 ** 28;
  * is refused with an InputError instead of a failed allocation or an exhausted machine.
  */
 export function maxAtoms(): number {
-  return Math.min(ATOM_CEILING, Math.floor(totalmem() / 2 / 48));
+  // Asked once per frame when frames are only counted (os.totalmem() reads the system's memory
+  // figures each time: ~50 µs), so the answer is kept.
+  maxAtomsMemo ??= Math.min(ATOM_CEILING, Math.floor(totalmem() / 2 / 48));
+  return maxAtomsMemo;
 }
+let maxAtomsMemo: number | null = null;
 
 /** Why `n` atoms are too many for this machine (see maxAtoms), or null when they fit. */
 export function tooManyAtoms(n: number): string | null {
