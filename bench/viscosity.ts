@@ -91,10 +91,16 @@ export async function benchViscosity(rows = 10_000_000, parseRows = 1_000_000): 
   const file = path.join(dir, 'stress.dat');
   try {
     await writeTable(file, syntheticStress(parseRows, 99));
-    const t0 = performance.now();
-    const table = await readTable(file, { warnings: [] });
-    const parseSec = (performance.now() - t0) / 1000;
-    if (table.rows !== parseRows) throw new Error(`bench: parsed ${table.rows} rows, expected ${parseRows}`);
+    // Two parses, the faster one kept: the first pays one-time costs (compiling the parser, the
+    // reading thread's start) that a 10⁷-row parse pays once, not ten times, so they must not be
+    // multiplied by the linear projection.
+    let parseSec = Infinity;
+    for (let k = 0; k < 2; k++) {
+      const t0 = performance.now();
+      const table = await readTable(file, { warnings: [] });
+      parseSec = Math.min(parseSec, (performance.now() - t0) / 1000);
+      if (table.rows !== parseRows) throw new Error(`bench: parsed ${table.rows} rows, expected ${parseRows}`);
+    }
     out.push({ name: `parse ${parseRows} rows × 7 columns`, value: parseSec, unit: 's', target: '—' });
     out.push({ name: `parse, projected to ${rows} rows (linear)`, value: (parseSec * rows) / parseRows, unit: 's', target: '—' });
   } finally {
