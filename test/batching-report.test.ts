@@ -84,9 +84,11 @@ describe('report --max-memory: batched reads equal one read', () => {
     expect(text.out).not.toMatch(/memory:/);
   });
 
-  it('the terminal summary says how many reads and how much was held', async () => {
-    const r = await runText(['report', traj, '--temperature', '300K', '--out', outDir(), '--max-memory', LIMIT, '--quiet']);
+  it('the terminal summary and report.html say how many reads and how much was held', async () => {
+    const out = outDir();
+    const r = await runText(['report', traj, '--temperature', '300K', '--out', out, '--max-memory', LIMIT, '--quiet']);
     expect(r.code, r.err).toBe(0);
+    expect(readFileSync(join(out, 'report.html'), 'utf8')).toMatch(/Memory: --max-memory 0\.6 MB: 40 sites × 1000 frames would need 2\.02 MB, so the sites were processed in 4 batches/);
     // Sizes from the plan arithmetic at the top: 2.016 MB needed; a batch of 10 holds 10 × 1000 × 48 B + 96 kB = 0.576 MB.
     expect(r.out).toMatch(/memory: --max-memory 0\.6 MB: 40 sites × 1000 frames would need 2\.02 MB, so the sites were processed in 4 batches over 4 reads of the file \(at most 0\.576 MB held at once\)/);
   });

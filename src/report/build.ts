@@ -821,6 +821,8 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
     }
     const notes: string[] = [];
     if (data.msd) notes.push(`MSD: ${data.msd.rules.window}; uncertainty: ${data.msd.rules.uncertainty}; ${data.msd.driftNote}.`);
+    // MSD-type analyses hold whole time series: say how much (and how many reads, when batched).
+    if (data.msd) notes.push(`Memory: ${data.msd.memoryNote ?? `${formatSig(data.msd.bytesHeld / 2 ** 20, 3)} MiB of coordinates held in one read`}.`);
     if (data.vacf) notes.push(`VACF: ${data.vacf.rules.plateau}; uncertainty: ${data.vacf.rules.uncertainty}.`);
     if (samplingNotes.length) notes.push(`VACF sampling: ${samplingNotes.join('; ')}.`);
     if (data.skipped.vacf) notes.push(`VACF not computed: ${data.skipped.vacf}.`);
