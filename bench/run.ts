@@ -141,7 +141,7 @@ async function runGroup(group: Group, large: boolean): Promise<Row[]> {
         for (const mb of sizes) {
           const file = join(dir, `s${mb}.xyz`);
           const atoms = 3000;
-          const frames = Math.round((mb * 1e6) / (atoms * 36));
+          const frames = Math.round((mb * 1e6) / (atoms * 28.8)); // ~28.8 bytes per atom line
           const bytes = await writeXyz(file, atoms, frames, 40);
           const res = spawnSync(process.execPath, [here, '--child-rss', cli, 'rdf', file, '--pair', 'Na:O', '--r-max', '8A', '--threads', '1', '--quiet', '--json'], { encoding: 'utf8' });
           if (res.status !== 0) throw new Error(res.stderr);
