@@ -91,7 +91,8 @@ export class OutputWriteError extends Error {
  * the temporary file is removed and an OutputWriteError is thrown.
  */
 export async function writeFileAtomic(target: string, data: string | Uint8Array): Promise<void> {
-  const tmp = await writeSibling(target, data);
+  const tmp = siblingPath(target);
+  await writeSibling(tmp, target, data);
   try {
     await fsp.rename(tmp, target);
   } catch (e) {
@@ -100,13 +101,17 @@ export async function writeFileAtomic(target: string, data: string | Uint8Array)
   }
 }
 
-/**
- * Write `data` to a new temporary file beside `target` (same folder, so a rename is atomic),
- * synced to disk; returns its path. Nothing is left behind when the write fails.
- */
-async function writeSibling(target: string, data: string | Uint8Array): Promise<string> {
+/** A new temporary name beside `target` (same folder, so that a rename onto it is atomic). */
+function siblingPath(target: string): string {
   const dir = path.dirname(path.resolve(target));
-  const tmp = path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
+  return path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
+}
+
+/**
+ * Write `data` to the new file `tmp` (see siblingPath), synced to disk. Nothing is left behind
+ * when the write fails; errors name `target`.
+ */
+async function writeSibling(tmp: string, target: string, data: string | Uint8Array): Promise<void> {
   try {
     const fh = await fsp.open(tmp, 'wx');
     try {
@@ -119,7 +124,6 @@ async function writeSibling(target: string, data: string | Uint8Array): Promise<
     await fsp.rm(tmp, { force: true });
     throw new OutputWriteError(target, e);
   }
-  return tmp;
 }
 
 /** Files written to a temporary sibling and waiting for commitStagedFiles (see stageFile). */
@@ -133,12 +137,11 @@ const staged = new Map<string, { tmp: string; release: () => void }>();
  * and the data need not be held in memory until then.
  */
 export async function stageFile(target: string, data: string | Uint8Array): Promise<void> {
-  let tmp: string | null = null;
-  const release = cleanupOnAbort(() => {
-    if (tmp !== null) rmSync(tmp, { force: true });
-  });
+  // The name is fixed before writing, so that an interrupt during a long write removes the file.
+  const tmp = siblingPath(target);
+  const release = cleanupOnAbort(() => rmSync(tmp, { force: true }));
   try {
-    tmp = await writeSibling(target, data);
+    await writeSibling(tmp, target, data);
   } catch (e) {
     release();
     throw e;

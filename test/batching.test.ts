@@ -82,3 +82,37 @@ describe('memory sizes', () => {
     expect(() => parseByteSize('0MB')).toThrow(UsageError);
   });
 });
+
+describe('--max-memory keeps the unwrapping warning of one read', () => {
+  it('conductivity --keep-drift: each long step is counted once, not once per read', async () => {
+    // 40 ions, each making exactly one 8 Å step (> a third of the 20 Å cell: the unwrapping warning
+    // threshold of analyses/msd.ts) at a known frame, so the true count is 40 (by construction).
+    // The first batched read unwraps every ion for the collective sums; later reads unwrap their
+    // own batch again and must not add those steps a second time.
+    const dir = mkdtempSync(join(tmpdir(), 'sojourn-jump-'));
+    const file = join(dir, 'jump.xyz');
+    const rnd = new Random(11);
+    const atoms = 40, L = 20;
+    const pos = Array.from({ length: atoms }, () => [L * rnd.uniform(), L * rnd.uniform(), L * rnd.uniform()]);
+    const lines: string[] = [];
+    for (let f = 0; f < 200; f++) {
+      lines.push(String(atoms), `Lattice="${L} 0 0 0 ${L} 0 0 0 ${L}" Properties=species:S:1:pos:R:3 Time=${(f * 0.5).toFixed(1)}`);
+      for (let i = 0; i < atoms; i++) {
+        for (let d = 0; d < 3; d++) pos[i]![d]! += (rnd.uniform() - 0.5) * 0.6;
+        if (f === 100 + (i % 50)) pos[i]![0]! += 8;
+        lines.push(`${i % 2 ? 'Cl' : 'Na'} ${pos[i]!.map((x) => (((x % L) + L) % L).toFixed(4)).join(' ')}`);
+      }
+    }
+    writeFileSync(file, lines.join('\n') + '\n');
+    const args = ['conductivity', file, '--charges', 'Na=+1,Cl=-1', '--temperature', '300K', '--keep-drift', '--no-green-kubo'];
+    const one = await runJson(args);
+    const many = await runJson([...args, '--max-memory', '60kB']);
+    expect(one.code, one.err).toBe(0);
+    expect(many.code, many.err).toBe(0);
+    expect(many.json.results.reads).toBeGreaterThan(1);
+    const steps = (w: string[]) => w.map((x) => /(\d+) step\(s\) between consecutive frames/.exec(x)?.[1]).find(Boolean);
+    expect(steps(one.json.warnings)).toBe('40');
+    expect(steps(many.json.warnings)).toBe('40');
+    rmSync(dir, { recursive: true, force: true });
+  });
+});

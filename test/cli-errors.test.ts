@@ -11,6 +11,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { existsSync, readFileSync, symlinkSync, linkSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
+import { Random } from '../src/random.js';
 import { ensureBuilt, runCli, runCliBatch, scratch, sha256File, startCli, type CliResult } from './helpers/cli.js';
 
 const tmp = scratch('cli');
@@ -353,6 +354,32 @@ describe('outputs and inputs', () => {
     expect(r.status).toBe(1);
     expect(r.stdout).toBe('');
     expect(r.stderr).toMatch(/<stdin>: gzip stream truncated/);
+  });
+});
+
+describe('bad input met by a worker while this thread is still reading', () => {
+  it('is reported like a one-thread read: the earliest bad frame, file:line, exit 1', () => {
+    // 128 frames of 4000 atoms → 8 chunks of 16 frames (src/commands/parallel.ts). Faults in frame
+    // 17 (second chunk: a worker's, taken while this thread reads the first) and frame 100: the
+    // report must be the one-thread report of the earliest fault (sojourn's contract), whichever
+    // thread meets its fault first, and never an unhandled rejection.
+    const rnd = new Random(3);
+    const lines: string[] = [];
+    const faults = new Map<number, number>();
+    for (let f = 0; f < 128; f++) {
+      lines.push('4000', `Lattice="40 0 0 0 40 0 0 0 40" Properties=species:S:1:pos:R:3 Time=${(0.5 * f).toFixed(1)}`);
+      for (let i = 0; i < 4000; i++) {
+        const bad = (f === 17 || f === 100) && i === 7;
+        if (bad) faults.set(f, lines.length + 1);
+        lines.push(`${i % 2 ? 'Cl' : 'Na'} ${(40 * rnd.uniform()).toFixed(3)} ${(40 * rnd.uniform()).toFixed(3)} ${bad ? '2.0.0' : (40 * rnd.uniform()).toFixed(3)}`);
+      }
+    }
+    const f = tmp.file('late-fault.xyz', lines.join('\n') + '\n');
+    const one = runFailing(['rdf', 'late-fault.xyz', '--pair', 'Na:Cl', '--r-max', '10A', '--threads', '1'], [f], 1);
+    const two = runFailing(['rdf', 'late-fault.xyz', '--pair', 'Na:Cl', '--r-max', '10A', '--threads', '2'], [f], 1);
+    expect(one.stderr).toMatch(line('late-fault.xyz', faults.get(17)!));
+    expect(two.stderr).toMatch(line('late-fault.xyz', faults.get(17)!));
+    expect(two.stderr).not.toMatch(/Node\.js v|at .*parallel/);
   });
 });
 

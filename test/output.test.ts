@@ -4,6 +4,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { formatValue, formatTable, toJson, writeFileAtomic, refuseOverwritingInputs, toCsv, stageFile, commitStagedFiles, discardStagedFiles } from '../src/output.js';
 import { UsageError } from '../src/errors.js';
+import { spawnSync } from 'node:child_process';
+import { pathToFileURL } from 'node:url';
+import { CLI, ensureBuilt } from './helpers/cli.js';
 
 describe('formatting values with uncertainties', () => {
   it('rounds the uncertainty to two significant figures and the value to match', () => {
@@ -55,5 +58,23 @@ describe('staged outputs', () => {
     discardStagedFiles();
     expect(readFileSync(dropped, 'utf8')).toBe('previous');
     expect(readdirSync(dir).sort()).toEqual(['dropped.json', 'kept.json']);
+  });
+});
+
+describe('staged outputs and interrupts', () => {
+  it('SIGINT while a large staged file is being written leaves no file behind and exits 130', () => {
+    // A shell reports death by signal n as 128 + n (SIGINT = 2; POSIX.1-2017, Shell Command
+    // Language §2.8.2). Whether the signal lands during the write or after it, the temporary
+    // file must be gone: the clean-up knows its name before writing starts.
+    ensureBuilt();
+    const dir = mkdtempSync(join(tmpdir(), 'sojourn-sigint-'));
+    const output = pathToFileURL(join(CLI, '..', 'output.js')).href;
+    const script = `import { stageFile } from ${JSON.stringify(output)};
+setTimeout(() => process.kill(process.pid, 'SIGINT'), 30);
+await stageFile(${JSON.stringify(join(dir, 'out.json'))}, Buffer.alloc(200e6));
+await new Promise((r) => setTimeout(r, 5000));`;
+    const r = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8' });
+    expect(r.status === 130 || r.signal === 'SIGINT', `status ${r.status} signal ${r.signal} ${r.stderr}`).toBe(true);
+    expect(readdirSync(dir)).toEqual([]);
   });
 });

@@ -191,9 +191,10 @@ export interface BatchedStoreRun {
  * Read the file once per batch of sites with a coordinate store holding that batch
  * (`store(batch, index)` gives its options; `sites` is set here), plus `firstPasses` on the
  * first read only, and hand each read's store to `each` (the analyses add their site sums
- * there); `each` returning false ends the reading early. Long unwrapping steps: when every read
- * unwraps the same atoms (drift removal or collective sums need all of them) the first read's
- * count stands, else (disjoint atoms) the counts add.
+ * there); `each` returning false ends the reading early. Long unwrapping steps: a later read
+ * whose unwrapped atoms the first read unwrapped too (drift removal or collective sums make the
+ * first read unwrap all of them) adds nothing to the first read's count; otherwise (disjoint
+ * batches) the counts add.
  */
 export async function readStoreInBatches(
   file: string,
@@ -207,6 +208,7 @@ export async function readStoreInBatches(
   let first: TrajectoryRun | null = null;
   let lastCtx: PassContext | null = null;
   let info: StorePartial | null = null;
+  let firstUnwrapped: Set<number> | null = null;
   let held = 0;
   let reads = 0;
   const passesFor = (sites: Int32Array, i: number): Pass[] => [storePass({ ...store(sites, i), sites }) as Pass, ...(i === 0 ? firstPasses : [])];
@@ -221,8 +223,12 @@ export async function readStoreInBatches(
     // No coordinates; an empty velocity list (not null) keeps the velocity source ('file').
     if (!info) info = { ...s, chunks: [], chunkFrames: [], velocityChunks: s.velocityChunks ? [] : null };
     else {
-      const same = s.unwrapAtoms.length === info.unwrapAtoms.length && s.unwrapAtoms.every((a, k) => a === info!.unwrapAtoms[k]);
-      if (!same) info = { ...info, longSteps: info.longSteps + s.longSteps, maxStepFraction: Math.max(info.maxStepFraction, s.maxStepFraction) };
+      // A read whose atoms were all unwrapped by the first read already (the same atoms, or a
+      // batch of the atoms the first read unwrapped for its collective sums) adds no new steps.
+      firstUnwrapped ??= new Set(info.unwrapAtoms);
+      const seen = firstUnwrapped;
+      const covered = s.unwrapAtoms.every((a) => seen.has(a));
+      if (!covered) info = { ...info, longSteps: info.longSteps + s.longSteps, maxStepFraction: Math.max(info.maxStepFraction, s.maxStepFraction) };
     }
     return each(s, batch, run, i);
   });

@@ -312,48 +312,52 @@ export async function runInWorkers(
   const usedWorkers = Math.min(pool.length, work.length - 1);
   release(usedWorkers);
   const replies: WorkerReply[] = new Array(work.length);
+  // Failures of any thread, with the chunk they happened in. A failure stops the hand-out; the
+  // threads finish the chunk they hold, and the failure in the earliest chunk is reported (the
+  // earliest bad frame, as one read would report it). The workers' promises never reject, so no
+  // failure can go unhandled while this thread is still reading.
+  const failures: Array<{ chunk: number; error: unknown }> = [];
+  const fail = (chunk: number, error: unknown) => {
+    stop();
+    failures.push({ chunk, error });
+  };
   const finished = pool.slice(0, usedWorkers).map(
     (worker) =>
-      new Promise<void>((resolve, reject) => {
+      new Promise<void>((resolve) => {
         worker.on('message', (m: WorkerReply & { done?: boolean }) => {
           if (m.done) resolve();
           else if (!m.ok) {
-            stop();
-            reject(workerFailure(m));
+            fail(m.chunk ?? Infinity, workerFailure(m));
+            resolve();
           } else replies[m.chunk!] = m;
         });
         worker.once('error', (e) => {
-          stop();
-          reject(e);
+          fail(Infinity, e);
+          resolve();
         });
         worker.once('exit', (code) => {
-          if (code !== 0) reject(new Error(`worker exited with status ${code}`));
+          if (code !== 0) fail(Infinity, new Error(`worker exited with status ${code}`));
+          resolve();
         });
         worker.postMessage({ chunks: work.map(({ argv, plan }) => ({ argv, plan })), counter: counter.buffer });
       }),
   );
-  const abandon = (err: unknown): never => {
-    stop();
-    for (const f of finished) f.catch(() => {});
-    for (const w of pool) void w.terminate();
-    throw err;
-  };
-  try {
-    // This thread takes chunks too, from the same counter.
-    for (let c = Atomics.add(counter, 0, 1); c < work.length; c = Atomics.add(counter, 0, 1)) {
-      const { range, plan } = work[c]!;
+  // This thread takes chunks too, from the same counter.
+  for (let c = Atomics.add(counter, 0, 1); c < work.length; c = Atomics.add(counter, 0, 1)) {
+    const { range, plan } = work[c]!;
+    try {
       replies[c] = replyOf(await local(range, plan, [], true));
+    } catch (err) {
+      // Bad input in this thread's chunk keeps the error a plain read raises.
+      fail(c, err);
     }
-  } catch (err) {
-    // Bad input in this thread's chunk is reported as a plain read reports it.
-    abandon(err);
   }
-  try {
-    await Promise.all(finished);
-  } catch (err) {
-    abandon(err);
+  await Promise.all(finished);
+  for (const w of pool) void w.terminate();
+  if (failures.length > 0) {
+    failures.sort((x, y) => x.chunk - y.chunk);
+    throw failures[0]!.error;
   }
-  for (const w of pool.slice(0, usedWorkers)) void w.terminate();
   // Each worker checked its frames against its own first frame; the shares must agree too.
   const t0 = replies[0].topology as TrajectoryRun['ctx']['topology'];
   for (const r of replies.slice(1)) {
