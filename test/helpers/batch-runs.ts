@@ -45,8 +45,8 @@ export function writeOuTrajectory(path: string, s: OuSpec): void {
   writeFileSync(path, lines.join('\n') + '\n');
 }
 
-/** Run the CLI in-process with --json --quiet --threads 1; the exit status, parsed stdout (status 0) and stderr. */
-export async function runJson(args: string[]): Promise<{ code: number; json: any; out: string; err: string }> {
+/** Run the CLI in-process on `args`, capturing stdout and stderr; the exit status and both texts. */
+async function runCaptured(args: string[]): Promise<{ code: number; out: string; err: string }> {
   const out: string[] = [];
   const err: string[] = [];
   const o = process.stdout.write.bind(process.stdout);
@@ -54,29 +54,23 @@ export async function runJson(args: string[]): Promise<{ code: number; json: any
   (process.stdout as unknown as { write: (s: string) => boolean }).write = (s: string) => (out.push(String(s)), true);
   (process.stderr as unknown as { write: (s: string) => boolean }).write = (s: string) => (err.push(String(s)), true);
   try {
-    const code = await main(['node', 'sojourn', ...args, '--json', '--quiet', '--threads', '1']);
-    return { code, json: code === 0 ? JSON.parse(out.join('')) : null, out: out.join(''), err: err.join('') };
+    const code = await main(['node', 'sojourn', ...args]);
+    return { code, out: out.join(''), err: err.join('') };
   } finally {
     (process.stdout as unknown as { write: typeof o }).write = o;
     (process.stderr as unknown as { write: typeof e }).write = e;
   }
 }
 
+/** Run the CLI in-process with --json --quiet --threads 1; the exit status, parsed stdout (status 0) and stderr. */
+export async function runJson(args: string[]): Promise<{ code: number; json: any; out: string; err: string }> {
+  const r = await runCaptured([...args, '--json', '--quiet', '--threads', '1']);
+  return { ...r, json: r.code === 0 ? JSON.parse(r.out) : null };
+}
+
 /** Run the CLI in-process without --json (human text); status, stdout and stderr. */
 export async function runText(args: string[]): Promise<{ code: number; out: string; err: string }> {
-  const out: string[] = [];
-  const err: string[] = [];
-  const o = process.stdout.write.bind(process.stdout);
-  const e = process.stderr.write.bind(process.stderr);
-  (process.stdout as unknown as { write: (s: string) => boolean }).write = (s: string) => (out.push(String(s)), true);
-  (process.stderr as unknown as { write: (s: string) => boolean }).write = (s: string) => (err.push(String(s)), true);
-  try {
-    const code = await main(['node', 'sojourn', ...args, '--threads', '1']);
-    return { code, out: out.join(''), err: err.join('') };
-  } finally {
-    (process.stdout as unknown as { write: typeof o }).write = o;
-    (process.stderr as unknown as { write: typeof e }).write = e;
-  }
+  return runCaptured([...args, '--threads', '1']);
 }
 
 const isNumberArray = (x: unknown): x is number[] => Array.isArray(x) && x.length > 0 && x.every((v) => typeof v === 'number');
