@@ -777,6 +777,10 @@ export interface ViscosityInput {
   segments?: number;
   /** Fraction for the cut-off (default CUTOFF_FRACTION). */
   cutoffFraction?: number;
+  /** The plan of steps 1–2 when already made (planViscosity on this input). */
+  plan?: ViscosityPlan;
+  /** The N·c running integrals (unitRunningIntegral), unit s·nc + ci, when computed elsewhere. */
+  units?: Float64Array[];
 }
 
 /** The JSON-ready result. */
@@ -834,12 +838,30 @@ function thinIndices(first: number, last: number, maxPoints: number): number[] {
   return idx;
 }
 
+/** What the viscosity analysis settles before the running integrals (see `planViscosity`). */
+export interface ViscosityPlan {
+  /** Samples and shear components. */
+  n: number;
+  nc: number;
+  /** Green–Kubo prefactor V/(k_B T) in Pa⁻¹ s⁻¹ per squared table unit (greenKuboPrefactor). */
+  pref: number;
+  /** Cut-off fraction of σ(t) over η(t). */
+  fraction: number;
+  reasons: string[];
+  notes: string[];
+  /** Integral correlation time of the probe autocorrelation, ps. */
+  tc: { tau: number; decayed: boolean };
+  /** Segments, samples per segment, longest lag of the running integrals. */
+  N: number;
+  m: number;
+  maxLag: number;
+}
+
 /**
- * Viscosity by Green–Kubo with the time-decomposition method plus the Helfand cross-check (all
- * methods and rules in the module comment). Never returns a bare number: when a rule fails,
- * `converged` is false and `reasons` says why.
+ * Steps 1–2 of the analysis: input checks, the stress correlation time from a probe
+ * autocorrelation, the segment count and length and the lag range (see analyseViscosity).
  */
-export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
+export function planViscosity(input: ViscosityInput): ViscosityPlan {
   const { components, dt, volumeA3, temperatureK, pascalPerUnit } = input;
   const fraction = input.cutoffFraction ?? CUTOFF_FRACTION;
   if (!(dt > 0)) throw new UsageError('sample interval must be positive');
@@ -909,6 +931,36 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
       notes.push(`component ${c.name} has a mean of ${c.mean.toPrecision(4)} in the table's pressure unit (about ${Math.round(Math.abs(c.mean) / se)} standard errors from zero); it was removed before correlating — check that the fluid is isotropic and at equilibrium`);
     }
   }
+  return { n, nc, pref, fraction, reasons, notes, tc, N, m, maxLag };
+}
+
+/**
+ * Running Green–Kubo integral of one unit (segment s of a component's values, m samples):
+ * η(t_k) = pref · Δt · trapezoid Σ C(j), C the unbiased autocorrelation up to maxLag by FFT
+ * (src/correlate.ts). Independent of every other unit, so units may be computed on any thread.
+ */
+export function unitRunningIntegral(values: Float64Array, s: number, m: number, maxLag: number, dt: number, pref: number): Float64Array {
+  const seg = values.subarray(s * m, (s + 1) * m);
+  // Unbiased autocorrelation of the segment up to maxLag (src/correlate.ts chooses the
+  // transform layout: for long segments, blocks that stay in the CPU caches).
+  const acf = autocorrelation(seg, { maxLag });
+  const out = new Float64Array(maxLag + 1);
+  runningIntegral(acf, dt, pref, out);
+  return out;
+}
+
+/**
+ * Viscosity by Green–Kubo with the time-decomposition method plus the Helfand cross-check (all
+ * methods and rules in the module comment). Never returns a bare number: when a rule fails,
+ * `converged` is false and `reasons` says why.
+ */
+export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
+  const { components, dt } = input;
+  const plan = input.plan ?? planViscosity(input);
+  const { n, nc, pref, fraction, tc, N, m, maxLag } = plan;
+  // Copies: a plan may be shared (computed once, passed in), and the steps below add to these.
+  const reasons = [...plan.reasons];
+  const notes = [...plan.notes];
 
   // 3. Running integrals: one per (segment, component) "unit". In an isotropic fluid the
   // components are equivalent and mutually uncorrelated (module comment), so the N·c unit
@@ -919,14 +971,11 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const unitCurves: Float32Array[] = [];
   const compSum = components.map(() => new Float64Array(L));
   const compSq = components.map(() => new Float64Array(L));
-  const tmp = new Float64Array(L);
+  if (input.units && input.units.length !== U) throw new Error(`analyseViscosity: ${input.units.length} precomputed units, expected ${U}`);
   for (let s = 0; s < N; s++) {
     components.forEach((c, ci) => {
-      const seg = c.values.subarray(s * m, (s + 1) * m);
-      // Unbiased autocorrelation of the segment up to maxLag (src/correlate.ts chooses the
-      // transform layout: for long segments, blocks that stay in the CPU caches).
-      const acf = autocorrelation(seg, { maxLag });
-      runningIntegral(acf, dt, pref, tmp);
+      // Precomputed (e.g. on worker threads, in the same order s·nc + ci) or computed here.
+      const tmp = input.units ? input.units[s * nc + ci]! : unitRunningIntegral(c.values, s, m, maxLag, dt, pref);
       const cs = compSum[ci];
       const cq = compSq[ci];
       for (let k = 0; k < L; k++) {
