@@ -6,7 +6,7 @@ import {
   rdfPass, mergeRdfPartials, shellVolumes, binCentres, normaliseCounts, runningCoordination, savitzkyGolay7,
   findFirstShell, automaticBlockCount, groupContiguous, resolveBins, type RdfSpec, type RdfPartial, type RdfResult,
 } from '../analyses/rdf.js';
-import { PairHistogram, cellGrid, planSearch, forEachPairWithin, RND } from '../src/neighbors.js';
+import { PairHistogram, cellGrid, planSearch, forEachPairWithin, RND, lowerTriangular } from '../src/neighbors.js';
 import { parsePairOption, parseWavenumber, safeName } from '../src/commands/rdf.js';
 import { CellGeometry, orthorhombicCell, cellFromParameters } from '../src/cell.js';
 import { Random } from '../src/random.js';
@@ -433,6 +433,52 @@ describe('linked cells and brute force give identical histograms', () => {
       if (r < nb * 0.1 && k < nb) ref[k]++;
     }
     expect(Array.from(h)).toEqual(Array.from(ref));
+  });
+
+  it('a cell in any orientation (not lower triangular) gives the plain pair loop\'s histogram', () => {
+    // The triclinic kernels use the cell turned into its lower-triangular form (lowerTriangular,
+    // Gram–Schmidt); a rotation keeps every distance, so a cell and positions rotated by the same
+    // matrix must give the counts of the plain loop with CellGeometry.minimumImage on the rotated
+    // input. Same exactness argument as above (bin edges within ~1e-15 Å are improbable).
+    const base = cellFromParameters(18, 19, 20, 80, 95, 105)!;
+    const th = 0.7, ph = 0.4;
+    const Rm = [
+      [Math.cos(th), -Math.sin(th) * Math.cos(ph), Math.sin(th) * Math.sin(ph)],
+      [Math.sin(th), Math.cos(th) * Math.cos(ph), -Math.cos(th) * Math.sin(ph)],
+      [0, Math.sin(ph), Math.cos(ph)],
+    ];
+    const rot = (v: number[]) => [0, 1, 2].map((r) => Rm[r]![0]! * v[0]! + Rm[r]![1]! * v[1]! + Rm[r]![2]! * v[2]!);
+    const cell = Float64Array.from([0, 1, 2].flatMap((k) => rot([base[3 * k]!, base[3 * k + 1]!, base[3 * k + 2]!]))) as CellMatrix;
+    expect(Math.abs(cell[1]!) + Math.abs(cell[2]!) + Math.abs(cell[5]!)).toBeGreaterThan(1);
+    // Gram–Schmidt keeps the lengths and angles: compare the Gram matrices (round-off only, 1e-12).
+    const t = lowerTriangular(cell);
+    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) {
+      const g0 = cell[3 * i]! * cell[3 * j]! + cell[3 * i + 1]! * cell[3 * j + 1]! + cell[3 * i + 2]! * cell[3 * j + 2]!;
+      const g1 = t[3 * i]! * t[3 * j]! + t[3 * i + 1]! * t[3 * j + 1]! + t[3 * i + 2]! * t[3 * j + 2]!;
+      expect(Math.abs(g1 - g0)).toBeLessThan(1e-12 * 400);
+    }
+    const rng = new Random(9);
+    const n = 300;
+    const pos = uniformPositions(rng, n, cell);
+    const g = new CellGeometry(cell);
+    const nb = 50; // r-max 5 Å: small enough for 3 slabs of ≥ r-max along each axis (cells, reach 1)
+    const idx = Int32Array.from({ length: n }, (_, i) => i);
+    const ref = new Float64Array(nb);
+    const d = new Float64Array(3);
+    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+      if (i === j) continue;
+      for (let c = 0; c < 3; c++) d[c] = pos[3 * j + c] - pos[3 * i + c];
+      g.minimumImage(d, 0);
+      const r = Math.hypot(d[0], d[1], d[2]);
+      const k = Math.floor(r / 0.1);
+      if (r < nb * 0.1 && k < nb) ref[k]++;
+    }
+    expect(ref.reduce((a, b) => a + b, 0)).toBeGreaterThan(1000);
+    for (const method of ['brute', 'cells'] as const) {
+      const h = new Float64Array(nb);
+      new PairHistogram(idx, idx, nb, 0.1).addFrame(pos, g, h, { method, ...(method === 'cells' ? { reach: 1 as const } : {}) });
+      expect(Array.from(h)).toEqual(Array.from(ref));
+    }
   });
 
   it('rounds to nearest with ties to even, symmetrically', () => {
