@@ -777,10 +777,6 @@ export interface ViscosityInput {
   segments?: number;
   /** Fraction for the cut-off (default CUTOFF_FRACTION). */
   cutoffFraction?: number;
-  /** The plan of steps 1–2 when already made (planViscosity on this input). */
-  plan?: ViscosityPlan;
-  /** The N·c running integrals (unitRunningIntegral), unit s·nc + ci, when computed elsewhere. */
-  units?: Float64Array[];
 }
 
 /** The JSON-ready result. */
@@ -937,7 +933,7 @@ export function planViscosity(input: ViscosityInput): ViscosityPlan {
 /**
  * Running Green–Kubo integral of one unit (segment s of a component's values, m samples):
  * η(t_k) = pref · Δt · trapezoid Σ C(j), C the unbiased autocorrelation up to maxLag by FFT
- * (src/correlate.ts). Independent of every other unit, so units may be computed on any thread.
+ * (src/correlate.ts). Independent of every other unit.
  */
 export function unitRunningIntegral(values: Float64Array, s: number, m: number, maxLag: number, dt: number, pref: number): Float64Array {
   const seg = values.subarray(s * m, (s + 1) * m);
@@ -956,11 +952,9 @@ export function unitRunningIntegral(values: Float64Array, s: number, m: number, 
  */
 export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const { components, dt } = input;
-  const plan = input.plan ?? planViscosity(input);
+  const plan = planViscosity(input);
   const { n, nc, pref, fraction, tc, N, m, maxLag } = plan;
-  // Copies: a plan may be shared (computed once, passed in), and the steps below add to these.
-  const reasons = [...plan.reasons];
-  const notes = [...plan.notes];
+  const { reasons, notes } = plan;
 
   // 3. Running integrals: one per (segment, component) "unit". In an isotropic fluid the
   // components are equivalent and mutually uncorrelated (module comment), so the N·c unit
@@ -971,11 +965,9 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   const unitCurves: Float32Array[] = [];
   const compSum = components.map(() => new Float64Array(L));
   const compSq = components.map(() => new Float64Array(L));
-  if (input.units && input.units.length !== U) throw new Error(`analyseViscosity: ${input.units.length} precomputed units, expected ${U}`);
   for (let s = 0; s < N; s++) {
     components.forEach((c, ci) => {
-      // Precomputed (e.g. on worker threads, in the same order s·nc + ci) or computed here.
-      const tmp = input.units ? input.units[s * nc + ci]! : unitRunningIntegral(c.values, s, m, maxLag, dt, pref);
+      const tmp = unitRunningIntegral(c.values, s, m, maxLag, dt, pref);
       const cs = compSum[ci];
       const cq = compSq[ci];
       for (let k = 0; k < L; k++) {
