@@ -63,6 +63,24 @@ const baseSpec = (pairs: RdfSpec['pairs'], extra: Partial<RdfSpec> = {}): RdfSpe
   pairs, rMax: null, binWidth: 0.05, skipSameMolecule: false, blocks: null, ...extra,
 });
 
+/**
+ * Independent reference histogram: every ordered pair, minimum image from src/cell.ts
+ * (Math.round, its own formula), bin ⌊r/Δr⌋ kept when r < nbins·Δr.
+ */
+function plainLoopHistogram(pos: Float64Array, g: CellGeometry, n: number, nb: number, bw: number): Float64Array {
+  const ref = new Float64Array(nb);
+  const d = new Float64Array(3);
+  for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
+    if (i === j) continue;
+    for (let c = 0; c < 3; c++) d[c] = pos[3 * j + c] - pos[3 * i + c];
+    g.minimumImage(d, 0);
+    const r = Math.hypot(d[0], d[1], d[2]);
+    const k = Math.floor(r / bw);
+    if (r < nb * bw && k < nb) ref[k]++;
+  }
+  return ref;
+}
+
 /** FCC lattice positions: conventional cubic cell of edge a, m×m×m cells (4 atoms each). */
 function fccConventional(a: number, m: number): Float64Array {
   const basis = [[0, 0, 0], [0.5, 0.5, 0], [0.5, 0, 0.5], [0, 0.5, 0.5]];
@@ -422,16 +440,7 @@ describe('linked cells and brute force give identical histograms', () => {
     const idx = Int32Array.from({ length: n }, (_, i) => i);
     const h = new Float64Array(nb);
     new PairHistogram(idx, idx, nb, 0.1).addFrame(pos, g, h, { method: 'brute' });
-    const ref = new Float64Array(nb);
-    const d = new Float64Array(3);
-    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-      if (i === j) continue;
-      for (let c = 0; c < 3; c++) d[c] = pos[3 * j + c] - pos[3 * i + c];
-      g.minimumImage(d, 0);
-      const r = Math.hypot(d[0], d[1], d[2]);
-      const k = Math.floor(r / 0.1);
-      if (r < nb * 0.1 && k < nb) ref[k]++;
-    }
+    const ref = plainLoopHistogram(pos, g, n, nb, 0.1);
     expect(Array.from(h)).toEqual(Array.from(ref));
   });
 
@@ -463,16 +472,7 @@ describe('linked cells and brute force give identical histograms', () => {
     const g = new CellGeometry(cell);
     const nb = 50; // r-max 5 Å: small enough for 3 slabs of ≥ r-max along each axis (cells, reach 1)
     const idx = Int32Array.from({ length: n }, (_, i) => i);
-    const ref = new Float64Array(nb);
-    const d = new Float64Array(3);
-    for (let i = 0; i < n; i++) for (let j = 0; j < n; j++) {
-      if (i === j) continue;
-      for (let c = 0; c < 3; c++) d[c] = pos[3 * j + c] - pos[3 * i + c];
-      g.minimumImage(d, 0);
-      const r = Math.hypot(d[0], d[1], d[2]);
-      const k = Math.floor(r / 0.1);
-      if (r < nb * 0.1 && k < nb) ref[k]++;
-    }
+    const ref = plainLoopHistogram(pos, g, n, nb, 0.1);
     expect(ref.reduce((a, b) => a + b, 0)).toBeGreaterThan(1000);
     for (const method of ['brute', 'cells'] as const) {
       const h = new Float64Array(nb);
