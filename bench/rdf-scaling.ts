@@ -15,7 +15,7 @@ import { once } from 'node:events';
 import { fileURLToPath } from 'node:url';
 import { PairHistogram } from '../src/neighbors.js';
 import { CellGeometry, orthorhombicCell } from '../src/cell.js';
-import { Random } from '../src/random.js';
+import { positions } from './rdf.js';
 
 const here = fileURLToPath(import.meta.url);
 
@@ -23,10 +23,9 @@ const here = fileURLToPath(import.meta.url);
 export function pairRate(seconds: number): number {
   const n = 2000;
   const L = Math.cbrt(n / 0.1);
-  const g = new CellGeometry(orthorhombicCell(L, L, L));
-  const rng = new Random(n);
-  const pos = new Float64Array(3 * n);
-  for (let i = 0; i < 3 * n; i++) pos[i] = rng.uniform() * L;
+  const cell = orthorhombicCell(L, L, L);
+  const g = new CellGeometry(cell);
+  const pos = positions(n, cell, n);
   const idx = Int32Array.from({ length: n }, (_, i) => i);
   const bw = 0.05;
   const ph = new PairHistogram(idx, idx, Math.floor(10 / bw), bw);

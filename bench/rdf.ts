@@ -24,7 +24,7 @@ export interface BenchRow {
 }
 
 /** Uniform positions r = s·H for n atoms in cell H (seeded). */
-function positions(n: number, h: CellMatrix, seed: number): Float64Array {
+export function positions(n: number, h: CellMatrix, seed: number): Float64Array {
   const rng = new Random(seed);
   const p = new Float64Array(3 * n);
   for (let i = 0; i < n; i++) {

@@ -380,7 +380,6 @@ class CellSort {
   rs = new Float64Array(0);
   rt = new Float64Array(0);
   ru = new Float64Array(0);
-  order = new Int32Array(0);
   start = new Int32Array(0);
   private cellOf = new Int32Array(0);
   private cursor = new Int32Array(0);
@@ -394,7 +393,7 @@ class CellSort {
     if (this.x.length < n) {
       this.x = new Float64Array(n); this.y = new Float64Array(n); this.z = new Float64Array(n);
       this.rs = new Float64Array(n); this.rt = new Float64Array(n); this.ru = new Float64Array(n);
-      this.order = new Int32Array(n); this.cellOf = new Int32Array(n);
+      this.cellOf = new Int32Array(n);
     }
     if (this.start.length < cells + 1) {
       this.start = new Int32Array(cells + 1);
@@ -409,12 +408,10 @@ class CellSort {
       start[id + 1]++;
     }
     for (let c = 0; c < cells; c++) start[c + 1] += start[c];
-    const fill = this.order;
     const cursor = this.cursor;
     cursor.set(start.subarray(0, cells));
     for (let i = 0; i < n; i++) {
       const p = cursor[cellOf[i]]++;
-      fill[p] = i;
       const a = fs[i], b = ft[i], c = fu[i];
       this.x[p] = a; this.y[p] = b; this.z[p] = c;
       this.rs[p] = a - Math.floor(a); this.rt[p] = b - Math.floor(b); this.ru[p] = c - Math.floor(c);
@@ -424,9 +421,7 @@ class CellSort {
 
 /** Slab index ⌊(s − ⌊s⌋)·n⌋, clamped to [0, n−1] against round-off at s → 1. */
 function slab(s: number, n: number): number {
-  const w = s - Math.floor(s);
-  const k = Math.floor(w * n);
-  return k < 0 ? 0 : k >= n ? n - 1 : k;
+  return fineSlab(s - Math.floor(s), n);
 }
 
 /** Column offsets (o_x, o_y) ∈ [−m, m]² of a reach m: (2m+1)² of them. */

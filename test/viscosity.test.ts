@@ -28,7 +28,7 @@ import { pickStressColumns, tensorKeyOf } from '../src/commands/viscosity.js';
 import { ornsteinUhlenbeck, Random } from '../src/random.js';
 import { BOLTZMANN } from '../src/units.js';
 import { UsageError } from '../src/errors.js';
-import { main } from '../src/cli.js';
+import { runCaptured } from './helpers/batch-runs.js';
 import { CAUTION } from '../src/caution.js';
 import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -405,21 +405,7 @@ describe('pressure column names', () => {
 });
 
 describe('command line: sojourn viscosity and sojourn stokes', () => {
-  /** Run the CLI, capturing stdout and stderr. */
-  async function run(args: string[]): Promise<{ code: number; out: string; err: string }> {
-    const out: string[] = [];
-    const err: string[] = [];
-    const o = process.stdout.write.bind(process.stdout);
-    const e = process.stderr.write.bind(process.stderr);
-    (process.stdout as unknown as { write: (s: string) => boolean }).write = (s: string) => (out.push(String(s)), true);
-    (process.stderr as unknown as { write: (s: string) => boolean }).write = (s: string) => (err.push(String(s)), true);
-    try {
-      return { code: await main(['node', 'sojourn', ...args]), out: out.join(''), err: err.join('') };
-    } finally {
-      (process.stdout as unknown as { write: typeof o }).write = o;
-      (process.stderr as unknown as { write: typeof e }).write = e;
-    }
-  }
+  const run = runCaptured;
 
   it('a pressure table in kPa with a time column: JSON η matches the closed form', async () => {
     // Same OU model as above, written in kPa (1 bar = 100 kPa): η = Vσ²τ/(k_B T) = 0.29334 mPa s

@@ -61,40 +61,21 @@ export function inspectReportTarget(target: string): TargetState {
   return 'previous-report';
 }
 
-/** Staging directories alive in this process, with a displaced previous report if any. */
-const live = new Map<string, { target: string; displaced: string | null }>();
-
-/** Remove staging directories and restore displaced reports (synchronous: runs in signal/exit handlers). */
-function cleanupAllSync(): void {
-  for (const [staging, s] of live) {
-    try {
-      if (s.displaced && !existsSync(s.target)) renameSync(s.displaced, s.target);
-    } catch {
-      /* best effort: the old report stays under its .old- name */
-    }
-    try {
-      rmSync(staging, { recursive: true, force: true });
-    } catch {
-      /* best effort */
-    }
+/**
+ * Clean-up of one staging directory after an interrupt (synchronous: runs in signal and exit
+ * handlers, src/abort.ts): put a displaced previous report back, remove the staging directory.
+ */
+function cleanupSync(staging: string, entry: { target: string; displaced: string | null }): void {
+  try {
+    if (entry.displaced && !existsSync(entry.target)) renameSync(entry.displaced, entry.target);
+  } catch {
+    /* best effort: the old report stays under its .old- name */
   }
-  live.clear();
-}
-
-let unregister: (() => void) | null = null;
-
-function installHandlers(): void {
-  if (unregister === null) unregister = cleanupOnAbort(cleanupAllSync);
-}
-
-function uninstallHandlers(): void {
-  unregister?.();
-  unregister = null;
-}
-
-function forget(staging: string): void {
-  live.delete(staging);
-  if (live.size === 0) uninstallHandlers();
+  try {
+    rmSync(staging, { recursive: true, force: true });
+  } catch {
+    /* best effort */
+  }
 }
 
 /** A report being written: files go into `staging` until `commit` renames it onto `target`. */
@@ -131,8 +112,9 @@ export async function stageDirectory(target: string): Promise<StagedDirectory> {
   } catch (e) {
     throw new OutputWriteError(target, e);
   }
-  live.set(staging, { target: abs, displaced: null });
-  installHandlers();
+  // While this directory exists, an interrupt removes it (and restores a displaced report).
+  const entry: { target: string; displaced: string | null } = { target: abs, displaced: null };
+  const forget = cleanupOnAbort(() => cleanupSync(staging, entry));
   const written: string[] = [];
   let done = false;
   return {
@@ -160,7 +142,6 @@ export async function stageDirectory(target: string): Promise<StagedDirectory> {
     async commit(): Promise<void> {
       if (done) throw new Error(`report ${abs}: already committed or discarded`);
       const state = inspectReportTarget(abs);
-      const entry = live.get(staging)!;
       if (state === 'absent') {
         try {
           await fsp.rename(staging, abs);
@@ -183,19 +164,19 @@ export async function stageDirectory(target: string): Promise<StagedDirectory> {
           throw new OutputWriteError(abs, e);
         }
         entry.displaced = null;
-        forget(staging);
+        forget();
         done = true;
         await fsp.rm(old, { recursive: true, force: true });
         return;
       }
-      forget(staging);
+      forget();
       done = true;
     },
     async discard(): Promise<void> {
       if (done) return;
       done = true;
       await fsp.rm(staging, { recursive: true, force: true });
-      forget(staging);
+      forget();
     },
   };
 }

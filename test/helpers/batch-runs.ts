@@ -1,5 +1,5 @@
 /**
- * Helpers of the --max-memory tests (test/batching-vacf.test.ts, test/batching-report.test.ts):
+ * Helpers of the CLI tests run in-process (test/batching*.test.ts, test/viscosity.test.ts):
  * an Ornstein–Uhlenbeck trajectory written as extended XYZ, the CLI run in-process with --json,
  * and a comparison of two result trees.
  */
@@ -46,7 +46,7 @@ export function writeOuTrajectory(path: string, s: OuSpec): void {
 }
 
 /** Run the CLI in-process on `args`, capturing stdout and stderr; the exit status and both texts. */
-async function runCaptured(args: string[]): Promise<{ code: number; out: string; err: string }> {
+export async function runCaptured(args: string[]): Promise<{ code: number; out: string; err: string }> {
   const out: string[] = [];
   const err: string[] = [];
   const o = process.stdout.write.bind(process.stdout);
