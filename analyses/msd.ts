@@ -737,6 +737,14 @@ export function storePass(opts: StoreOptions, name = 'store'): Pass<StorePartial
   };
 }
 
+/**
+ * The coordinate store over the species layout (`speciesLayout`) described by plain data, so
+ * that it can be rebuilt from a pass recipe in a worker thread or a merge.
+ */
+export function speciesStorePass(opts: { layout: SpeciesLayoutOptions; removeDrift: boolean; keepVelocities: boolean }): Pass<StorePartial, StorePartial> {
+  return storePass({ layout: (t) => speciesLayout(t, opts.layout), removeDrift: opts.removeDrift, keepVelocities: opts.keepVelocities });
+}
+
 /** Bytes held by the store's arrays (positions, velocities, centre-of-mass series). */
 export function storeBytes(p: StorePartial): number {
   let b = 0;

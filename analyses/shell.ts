@@ -32,6 +32,10 @@ import { AnalysisError, UsageError } from '../src/errors.js';
 import { fitLine, planSegments, blockStatistics, MIN_WINDOW_POINTS, type LagWindow } from '../src/fit.js';
 import { laggedProductSums } from '../src/correlate.js';
 import { inefficiency } from './converge.js';
+import { defineAnalysis } from '../src/engine/analysis.js';
+import { SHARED, type OptionValues } from '../src/engine/options.js';
+import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js';
+import { CAUTION } from '../src/caution.js';
 
 /** The fit window ends before the survival function first drops below this value (≈ 3τ). */
 export const FIT_FLOOR = 0.05;
@@ -445,3 +449,73 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
     notes,
   };
 }
+
+/** Human-readable text of a shell result. */
+export function renderShell(file: string, r: ShellResult): string {
+  const dist = r.counts.values
+    .map((v, i) => [v, r.counts.fractions[i]!] as const)
+    .filter(([, f]) => f > 0)
+    .map(([v, f]) => `${v}: ${(100 * f).toFixed(1)}%`)
+    .join(', ');
+  const rows: string[][] = [
+    ['centres', `${r.center} (${r.centres} atoms)`],
+    ['neighbours', `${r.around} (${r.aroundAtoms} atoms)`],
+    ['cutoff', `${formatSig(r.cutoff.value, 4)} Å`],
+    ['frames', String(r.frames)],
+    ['neighbour count distribution', dist || '—'],
+    ['mean count (± SE)', `${formatQuantity(r.meanCount)}${r.statisticalInefficiency !== null ? ` (statistical inefficiency ${formatSig(r.statisticalInefficiency, 3)} frames)` : ''}`],
+    ['tolerance t*', `${formatSig(r.tolerance.value, 4)} ps`],
+    ['residence time (± SE)', r.residenceTime ? formatQuantity(r.residenceTime) : 'not determined'],
+    ['fit window', r.fitWindow ? `${formatSig(r.fitWindow.from, 4)}–${formatSig(r.fitWindow.to, 4)} ps` : '—'],
+    ['segments for the SE', r.segments ? String(r.segments) : '—'],
+  ];
+  const out = [file, formatTable(['property', 'value'], rows), `Residence time: ${r.fitMethod}.`];
+  if (!r.converged) out.push(`Not converged: ${r.notes.join('; ')}`);
+  out.push('', CAUTION);
+  return out.join('\n');
+}
+
+/** The shell pass options from the parsed command options. */
+function configureShell(v: OptionValues): ShellSpec {
+  if (v.center === undefined || v.around === undefined || v.cutoff === undefined) throw new UsageError('shell needs --center, --around and --cutoff');
+  return {
+    center: v.center as string,
+    around: v.around as string,
+    cutoff: v.cutoff as number,
+    tolerance: v.tolerance as number,
+    segments: v.segments as number,
+    fitFrom: (v.fitFrom as number | undefined) ?? null,
+    fitTo: (v.fitTo as number | undefined) ?? null,
+  };
+}
+
+/**
+ * `shell`: how many neighbours sit in the first shell of each centre atom, and how long they stay
+ * there (survival correlation with the Impey–Madden–McDonald tolerance, exponential residence time).
+ */
+export const shellAnalysis = defineAnalysis<ShellSpec, ShellPartial, ShellResult>({
+  name: 'shell',
+  summary: 'first-shell neighbour counts of centre atoms and how long neighbours stay (survival correlation, residence time)',
+  options: [
+    { key: 'center', flag: '--center <selection>', help: 'centre atoms, e.g. Li', type: { kind: 'text' } },
+    { key: 'around', flag: '--around <selection>', help: 'neighbour atoms, e.g. el=O', type: { kind: 'text' } },
+    { key: 'cutoff', flag: '--cutoff <length>', help: 'shell radius, e.g. 2.6A (take it from the first minimum of g(r))', type: { kind: 'quantity', dimension: 'length' } },
+    { key: 'tolerance', flag: '--tolerance <time>', help: 'absences up to this long do not end a stay (Impey–Madden–McDonald t*)', type: { kind: 'quantity', dimension: 'time' }, default: '2ps' },
+    { ...SHARED.segments('contiguous segments for the residence-time uncertainty'), default: String(DEFAULT_SHELL_SEGMENTS) },
+    { key: 'fitFrom', flag: '--fit-from <time>', help: 'start of the exponential fit window (default: automatic)', type: { kind: 'quantity', dimension: 'time' } },
+    { key: 'fitTo', flag: '--fit-to <time>', help: 'end of the exponential fit window (default: automatic)', type: { kind: 'quantity', dimension: 'time' } },
+    SHARED.csvPrefix('write PREFIX-survival.csv and PREFIX-counts.csv'),
+  ],
+  configure: configureShell,
+  pass: shellPass,
+  render: (file, r) => renderShell(file, r),
+  outputs: [
+    {
+      option: 'csv',
+      write: (r) => [
+        ['-survival.csv', toCsv(['time_ps', 'survival'], [r.survival.time, r.survival.value])],
+        ['-counts.csv', toCsv(['neighbours', 'fraction'], [r.counts.values, r.counts.fractions])],
+      ],
+    },
+  ],
+});

@@ -6,29 +6,31 @@
 import { realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { isMainThread } from 'node:worker_threads';
-import { setInvocation } from './commands/parallel.js';
 import { Command, CommanderError } from 'commander';
 import { COMMANDS } from './commands/index.js';
+import { readingContext, type CommandContext } from './commands/common.js';
 import { exitStatusFor, InputError, UsageError, AnalysisError } from './errors.js';
 import { VERSION } from './version.js';
 import { commitStagedFiles, discardStagedFiles, OutputWriteError } from './output.js';
 
-/** Build the commander program with every registered command. */
-export function buildProgram(): Command {
+/**
+ * Build the commander program with every registered command; `cc` says what the commands read
+ * from (the trajectory, or partial-result files being merged) and the command line they record.
+ */
+export function buildProgram(cc: CommandContext = readingContext([])): Command {
   const program = new Command('sojourn')
     .description('Defensible numbers from existing molecular-dynamics output: structure, transport, convergence.')
     .version(VERSION, '-V, --version')
     .showHelpAfterError(false)
     .exitOverride();
-  for (const register of COMMANDS) register(program);
+  for (const register of COMMANDS) register(program, cc);
   program.commands.forEach((c) => c.exitOverride());
   return program;
 }
 
 /** Run the CLI on argv; returns the exit status. */
 export async function main(argv: string[]): Promise<number> {
-  const program = buildProgram();
-  setInvocation(argv.slice(2));
+  const program = buildProgram(readingContext(argv.slice(2)));
   try {
     await program.parseAsync(argv);
     // Outputs staged during the run (--partial-out) appear only now that the command succeeded.

@@ -64,7 +64,11 @@ export interface PartialFile {
   /** The command and its arguments after the command name (input path first). */
   argv: string[];
   command: string;
+  /** The command's options as given (without --frames, --threads, --partial-out). */
+  options?: Record<string, unknown>;
   passes: string[];
+  /** How each pass was built (src/engine/recipes.ts), so that merge builds the same passes. */
+  recipes?: Array<{ kind: string; options: unknown } | null>;
   input: { path: string; sha256: string; bytes: number; format: string };
   firstIndex: number;
   lastIndex: number;

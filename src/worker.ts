@@ -1,44 +1,27 @@
 /**
- * Worker-thread entry: runs one command on chunks of the frames and posts each chunk's partial
- * results back to the parent. The job arrives in the first message: every chunk's argument list
- * (the command with its --frames range) and read plan, and a shared counter from which this
- * worker, its siblings and the parent thread take the next chunk (Atomics.add), so that a faster
- * thread takes more chunks. 'done' is posted when the counter has passed the last chunk.
+ * Worker-thread entry: reads chunks of a trajectory through passes built from their recipes and
+ * posts each chunk's partial results back to the parent. The job arrives in the first message
+ * (src/engine/threads.ts `WorkerJob`): the read description, the pass recipes, every chunk's frame
+ * range and byte plan, and a shared counter from which this worker, its siblings and the parent
+ * thread take the next chunk (Atomics.add), so that a faster thread takes more chunks. 'done' is
+ * posted when the counter has passed the last chunk. Nothing here knows the command line.
  */
 import { parentPort } from 'node:worker_threads';
-import { buildProgram } from './cli.js';
-import { installWorkerCapture, PartialsHandedOver, replyWorkerError, setInvocation, setWorkerReadPlan, type WorkerReadPlan } from './commands/parallel.js';
+import { readShare } from './engine/read.js';
+import { replyOf, replyWorkerError, type WorkerJob } from './engine/threads.js';
+import { passFromRecipe } from './engine/recipes.js';
+import { PASS_FACTORIES } from '../analyses/index.js';
 
-interface Chunk {
-  argv: string[];
-  plan: WorkerReadPlan;
-}
-
-interface Job {
-  chunks: Chunk[];
-  counter: SharedArrayBuffer;
-}
-
-/** Run the command on one chunk; false when it failed (the failure has been posted). */
-async function runChunk(chunk: Chunk, index: number): Promise<boolean> {
-  setInvocation(chunk.argv);
-  setWorkerReadPlan(chunk.plan);
-  installWorkerCapture(index);
-  try {
-    await buildProgram().parseAsync(['node', 'sojourn', ...chunk.argv]);
-    replyWorkerError(new Error('the command finished without reading frames'), index);
-    return false;
-  } catch (err) {
-    if (err instanceof PartialsHandedOver) return true;
-    replyWorkerError(err, index);
-    return false;
-  }
-}
-
-async function run(job: Job): Promise<void> {
+async function run(job: WorkerJob): Promise<void> {
   const counter = new Int32Array(job.counter);
   for (let c = Atomics.add(counter, 0, 1); c < job.chunks.length; c = Atomics.add(counter, 0, 1)) {
-    if (!(await runChunk(job.chunks[c]!, c))) {
+    const chunk = job.chunks[c]!;
+    try {
+      const passes = job.recipes.map((r) => passFromRecipe(r, PASS_FACTORIES));
+      const out = await readShare(job.read, passes, [], { range: chunk.range, plan: chunk.plan });
+      parentPort!.postMessage({ ...replyOf(out), chunk: c });
+    } catch (err) {
+      replyWorkerError(err, c);
       Atomics.store(counter, 0, job.chunks.length);
       return;
     }
@@ -46,4 +29,4 @@ async function run(job: Job): Promise<void> {
   parentPort!.postMessage({ ok: true, done: true });
 }
 
-parentPort!.once('message', (job: Job) => void run(job));
+parentPort!.once('message', (job: WorkerJob) => void run(job));

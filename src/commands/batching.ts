@@ -17,8 +17,7 @@ import { openTrajectory } from '../../readers/index.js';
 import { countFrames } from '../../readers/scan.js';
 import { parseFrameRange } from '../runner.js';
 import { UsageError } from '../errors.js';
-import { mergeSource, workerCapture } from './parallel.js';
-import { runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import { runOnTrajectory, type CommandContext, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import type { Pass, PassContext, Topology, Warnings } from '../types.js';
 import {
   storeBytes,
@@ -89,19 +88,19 @@ async function firstFrame(file: string, opts: TrajectoryOptions): Promise<FirstF
  * default 48, per frame for the centre-of-mass and collective series) against `limit`; batches are sized with
  * batchBytesPerSiteFrame (a batched read may hold less per site, e.g. no site velocities). Either
  * may be a rule on the first frame (`BytesPerSiteFrame`). Null when there is no limit, when
- * partial files are being merged, in a worker thread (its parent found that one read fits:
- * batched runs use no workers), or when one read fits. Reads the first frame for the layout and
+ * partial files are being merged, or when one read fits. Reads the first frame for the layout and
  * counts the frames of the file.
  */
 export async function planSiteBatches(
   file: string,
   opts: TrajectoryOptions & { maxMemory?: string },
+  cc: CommandContext,
   layout: (t: Topology) => SiteLayout,
   bytesPerSiteFrame: BytesPerSiteFrame,
   batchBytesPerSiteFrame: BytesPerSiteFrame = bytesPerSiteFrame,
   bytesPerFrame = 48,
 ): Promise<SiteBatchPlan | null> {
-  if (opts.maxMemory === undefined || mergeSource() || workerCapture()) return null;
+  if (opts.maxMemory === undefined || cc.source.kind === 'partials') return null;
   const limit = parseByteSize(opts.maxMemory);
   if (file === '-') throw new UsageError('--max-memory needs a file: standard input cannot be read more than once');
   const total = await countFrames(file, opts.format);
@@ -155,11 +154,12 @@ export async function readInBatches(
   passesFor: (batch: Int32Array, index: number) => Pass[],
   warnings: Warnings,
   each: (run: TrajectoryRun, batch: Int32Array, index: number) => void | boolean,
+  cc: CommandContext,
 ): Promise<void> {
   const seen = new Set(warnings);
   for (const [i, batch] of plan.batches.entries()) {
     const w: string[] = [];
-    const run = await runOnTrajectory(file, { ...opts, threads: '1' }, passesFor(batch, i), w);
+    const run = await runOnTrajectory(file, { ...opts, threads: '1' }, passesFor(batch, i), w, cc);
     for (const x of w) {
       if (!seen.has(x)) {
         seen.add(x);
@@ -199,6 +199,7 @@ export interface BatchedStoreRun {
 export async function readStoreInBatches(
   file: string,
   opts: TrajectoryOptions,
+  cc: CommandContext,
   plan: SiteBatchPlan,
   store: (batch: Int32Array, index: number) => Omit<StoreOptions, 'sites'>,
   warnings: Warnings,
@@ -231,7 +232,7 @@ export async function readStoreInBatches(
       if (!covered) info = { ...info, longSteps: info.longSteps + s.longSteps, maxStepFraction: Math.max(info.maxStepFraction, s.maxStepFraction) };
     }
     return each(s, batch, run, i);
-  });
+  }, cc);
   return { first: first!, ctx: { ...lastCtx!, warnings }, info: info!, reads, bytesHeld: held, note: batchNote(plan, held) };
 }
 

@@ -5,15 +5,13 @@
  */
 import { Command, Option } from 'commander';
 import cliProgress from 'cli-progress';
-import { openTrajectory } from '../../readers/index.js';
-import { runPasses, parseFrameRange, type FrameRange, type RunOutput } from '../runner.js';
+import { parseFrameRange } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
-import { checkOutputFile, envelope, stageFile, toJson, type InputRecord } from '../output.js';
-import { encodePartial, encodeTopology, type PartialFile } from '../partials.js';
-import { VERSION } from '../version.js';
-import { currentInvocation, mergeSource, runInWorkers, workerCapture, workerReadPlan, type WorkerReadPlan } from './parallel.js';
+import { checkOutputFile, envelope, toJson, type InputRecord } from '../output.js';
+import { execute, type RunSource } from '../engine/execute.js';
+import type { ReadSpec, TrajectoryRun } from '../engine/read.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
 
 /** Options every trajectory command accepts. */
@@ -86,8 +84,21 @@ export function parsePositiveTime(text: string | undefined, what: string): numbe
 }
 
 /** Result of reading one trajectory through a set of passes. */
-export interface TrajectoryRun extends RunOutput {
-  input: InputRecord;
+export type { TrajectoryRun } from '../engine/read.js';
+
+/**
+ * What a command knows besides its options: the command line it was started with (recorded in
+ * partial-result files) and where its partials come from (a read, or files being merged).
+ */
+export interface CommandContext {
+  /** The arguments after `sojourn` (command name first). */
+  args: string[];
+  source: RunSource;
+}
+
+/** The context of a plain run of `args`. */
+export function readingContext(args: string[]): CommandContext {
+  return { args, source: { kind: 'read' } };
 }
 
 /** A progress display on stderr, only on a TTY and without --quiet. */
@@ -101,96 +112,49 @@ export function progressFor(label: string, quiet: boolean | undefined): { tick: 
   return { tick: (n) => bar.update(n), stop: () => bar.stop() };
 }
 
-/** Open `file`, run `passes` on one read of it, and describe the input for the envelope. */
+/** The read description of a trajectory command's options (src/engine/read.ts). */
+export function readSpecOf(file: string, opts: TrajectoryOptions): ReadSpec {
+  const masses = parseMasses(opts.masses);
+  return {
+    file,
+    ...(opts.format ? { format: opts.format } : {}),
+    strict: !!opts.strict,
+    cell: opts.box ? parseBox(opts.box) : null,
+    frameInterval: parsePositiveTime(opts.frameInterval, '--frame-interval'),
+    ...(opts.frames ? { range: parseFrameRange(opts.frames) } : {}),
+    ...(masses ? { masses: [...masses] } : {}),
+  };
+}
+
+/** --threads as a number, or null for the default. */
+export function parseThreads(text: string | undefined): number | null {
+  const threads = text === undefined ? null : Number(text);
+  if (threads !== null && !(Number.isInteger(threads) && threads >= 1)) throw new UsageError(`--threads must be a whole number ≥ 1, got "${text}"`);
+  return threads;
+}
+
+/** Options that describe the range and the run, not the analysis (left out of partial files). */
+const RUN_KEYS = new Set(['frames', 'threads', 'partialOut']);
+
+/** Open `file`, run `passes` on one read of it (or merge partial files), describe the input. */
 export async function runOnTrajectory(
   file: string,
   opts: TrajectoryOptions,
   passes: Pass[],
   warnings: Warnings,
+  cc: CommandContext,
 ): Promise<TrajectoryRun> {
-  const frameInterval = parsePositiveTime(opts.frameInterval, '--frame-interval');
-  const cell = opts.box ? parseBox(opts.box) : null;
-  const range = opts.frames ? parseFrameRange(opts.frames) : undefined;
+  const spec = readSpecOf(file, opts);
+  const threads = parseThreads(opts.threads);
   if (opts.partialOut) checkOutputFile(opts.partialOut, [file], '--partial-out');
-  const merged = mergeSource();
-  if (merged) return merged(file, passes, warnings);
-  const threads = opts.threads === undefined ? null : Number(opts.threads);
-  if (threads !== null && !(Number.isInteger(threads) && threads >= 1)) throw new UsageError(`--threads must be a whole number ≥ 1, got "${opts.threads}"`);
-  let run: TrajectoryRun;
-  const local = (share: FrameRange | undefined, plan: WorkerReadPlan | null, into: Warnings, quiet: boolean | undefined) =>
-    readTrajectory(file, opts, passes, into, { frameInterval, cell, range: share, plan, quiet });
-  const parallel = workerCapture() === null ? await runInWorkers(file, opts, passes, warnings, threads, local) : null;
-  if (parallel) run = parallel;
-  // In a worker, the parent's plan says where the share starts and ends and gives the digest.
-  else run = await local(range, workerReadPlan(file), warnings, opts.quiet);
-  const capture = workerCapture();
-  if (capture) capture(run, passes);
-  if (opts.partialOut) await writePartialFile(opts.partialOut, run, passes, warnings);
-  return run;
-}
-
-/**
- * One read of `file` (or of the share a read plan describes: byte offsets, carried state and the
- * digest from the parent's frame index) through `passes`, frames restricted to `range`.
- */
-export async function readTrajectory(
-  file: string,
-  opts: TrajectoryOptions,
-  passes: Pass[],
-  warnings: Warnings,
-  how: { frameInterval: number | null; cell: CellMatrix | null; range: FrameRange | undefined; plan: WorkerReadPlan | null; quiet: boolean | undefined },
-): Promise<TrajectoryRun> {
-  const { plan } = how;
-  const input = await openTrajectory(file, {
-    format: plan?.format ?? opts.format,
-    strict: !!opts.strict,
-    warnings,
-    // A chunk of a parallel run: no hashing (the parent's scan did it) and no reading thread (the
-    // other threads fill the cores; a helper would only compete with them, and cost its start-up
-    // for every chunk).
-    ...(plan ? { hash: false, thread: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
-  });
-  const progress = progressFor(file, how.quiet);
-  let out: RunOutput;
-  try {
-    out = await runPasses(input, passes, { frameInterval: how.frameInterval, cell: how.cell, range: how.range, warnings, masses: parseMasses(opts.masses), onFrame: progress.tick });
-  } finally {
-    progress.stop();
-  }
-  return {
-    ...out,
-    input: {
-      path: file,
-      sha256: plan ? plan.sha256 : input.sha256(),
-      bytes: plan ? plan.bytes : input.rawBytes(),
-      format: input.format,
-      frames: input.framesComplete(),
-    },
-  };
-}
-
-/** Write the partial results of a run (see src/partials.ts) atomically. */
-export async function writePartialFile(target: string, run: TrajectoryRun, passes: Pass[], warnings: Warnings): Promise<void> {
-  const inv = currentInvocation();
-  const doc: PartialFile = {
-    tool: 'sojourn',
-    kind: 'partial',
-    version: VERSION,
-    argv: inv.args,
-    command: inv.command,
-    passes: passes.map((p) => p.name),
-    input: { path: run.input.path, sha256: run.input.sha256, bytes: run.input.bytes, format: run.input.format },
-    firstIndex: run.firstIndex,
-    lastIndex: run.lastIndex,
-    framesUsed: run.framesUsed,
-    frameInterval: run.ctx.frameInterval,
-    firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
-    topology: encodeTopology(run.ctx.topology),
-    partials: run.partials.map(encodePartial),
-    warnings: [...warnings],
-  };
-  // Staged: the file appears only if the whole command succeeds (src/cli.ts commits it).
-  await stageFile(target, JSON.stringify(doc));
+  const progress = cc.source.kind === 'read' ? progressFor(file, opts.quiet) : null;
+  const options = Object.fromEntries(Object.entries(opts).filter(([k]) => !RUN_KEYS.has(k)));
+  return execute(passes, spec, {
+    threads,
+    source: cc.source,
+    ...(opts.partialOut ? { partialOut: { path: opts.partialOut, command: cc.args[0] ?? '', argv: cc.args.slice(1), options } } : {}),
+    ...(progress ? { onFrame: progress.tick, onDone: progress.stop } : {}),
+  }, warnings);
 }
 
 /** Print warnings to stderr (unless quiet). */

@@ -4,6 +4,7 @@
  * correlations) and Green–Kubo (when the file has velocities); ionicity, Haven ratio and molar
  * conductivity, each with its uncertainty and fit window.
  */
+import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { analyseConductivity, conductivityLayout, conductivityPass, parseChargeRules, type ConductivityResult } from '../../analyses/conductivity.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
@@ -13,7 +14,7 @@ import {
   addWindowOptions,
   batchedMsd,
   dTable,
-  plateauOptions,
+  plateauValues,
   windowOptions,
   type PlateauCliOptions,
   type WindowCliOptions,
@@ -111,7 +112,7 @@ export function conductivityCsv(r: ConductivityResult): string {
 }
 
 /** Register the command on the program (src/commands/index.ts). */
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('conductivity <file>')
     .description('ionic conductivity: Nernst–Einstein, Einstein–Helfand and Green–Kubo, ionicity, Haven ratio, molar conductivity')
@@ -135,7 +136,7 @@ export function register(program: Command): void {
     const charges = opts.charges !== undefined ? parseChargeRules(opts.charges) : null;
     if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
     const wo = windowOptions(opts);
-    const po = plateauOptions(opts);
+    const po = plateauValues(opts);
     const copts = {
       ...wo,
       ...po,
@@ -151,12 +152,12 @@ export function register(program: Command): void {
     const layoutSpec = conductivityLayout(copts);
     // One read holds positions (+ velocities for Green–Kubo) of every ion; batched reads hold
     // positions only, the collective sums Σq r and Σq v being kept per frame by the first read.
-    const plan = await planSiteBatches(file, opts, layoutSpec, copts.greenKubo ? 48 : 24, 24);
+    const plan = await planSiteBatches(file, opts, cc, layoutSpec, copts.greenKubo ? 48 : 24, 24);
     let results: ConductivityResult;
     let run: TrajectoryRun;
     if (plan) {
       const mo = { fitFrom: wo.fitFrom, fitTo: wo.fitTo, tolerance: wo.tolerance, segments: copts.segments, nonGaussian: false };
-      const b = await batchedMsd(file, opts, plan, layoutSpec, !opts.keepDrift, mo, warnings, {
+      const b = await batchedMsd(file, opts, cc, plan, layoutSpec, !opts.keepDrift, mo, warnings, {
         collectiveCharges: (l) => (l as ReturnType<typeof layoutSpec>).siteCharges,
         collectiveVelocities: copts.greenKubo,
       });
@@ -165,7 +166,7 @@ export function register(program: Command): void {
       results = analyseConductivity(b.store, layout, b.ctx, copts, b.result, { reads: b.result.reads, bytesHeld: b.result.bytesHeld, note: b.result.memoryNote ?? undefined });
     } else {
       const pass = conductivityPass(copts);
-      run = await runOnTrajectory(file, opts, [pass], warnings);
+      run = await runOnTrajectory(file, opts, [pass], warnings, cc);
       results = finishPasses([pass], run.partials, run.ctx).conductivity as ConductivityResult;
     }
     if (opts.csv) await writeFileAtomic(opts.csv, conductivityCsv(results));

@@ -3,6 +3,7 @@
  * per-frame cell volume and density of a trajectory): equilibration point, statistical
  * inefficiency, effective samples, mean ± standard error, block averaging, drift, and a verdict.
  */
+import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { readTable, formatFromName } from '../../readers/index.js';
 import { analyseSeries, type SeriesReport, type SeriesOptions } from '../../analyses/converge.js';
@@ -71,7 +72,7 @@ function parseUnits(text: string | undefined): Map<string, string> {
   return m;
 }
 
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('converge <file>')
     .description('when do averages become reliable: equilibration, statistical inefficiency, error bars, drift — per table column, or per-frame volume and density of a trajectory')
@@ -89,7 +90,7 @@ export function register(program: Command): void {
     const series: SeriesReport[] = [];
     let input: InputRecord;
     if (formatFromName(file) !== null || opts.format) {
-      const run = await runOnTrajectory(file, opts, [framewiseObservables], warnings);
+      const run = await runOnTrajectory(file, opts, [framewiseObservables], warnings, cc);
       const fw = finishPasses([framewiseObservables], run.partials, run.ctx).framewise as FramewiseResult;
       const dt = run.ctx.frameInterval;
       if (fw.volume) series.push(analyseSeries('cell volume', fw.volume, { dt, unit: 'A^3', target, minEffective }));

@@ -3,6 +3,7 @@
  * read of the trajectory — the MSD slope (Einstein) and the VACF plateau (Green–Kubo) — side by
  * side, flagged when they disagree by more than DISAGREEMENT_FACTOR combined standard errors.
  */
+import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import {
   addGroupSums,
@@ -34,7 +35,7 @@ import {
 } from '../../analyses/vacf.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
-import { vacfStoreBytes } from './vacf.js';
+import { vacfStoreBytes } from '../../analyses/vacf.js';
 import {
   addMemoryOption,
   addPlateauOptions,
@@ -42,7 +43,7 @@ import {
   addWindowOptions,
   dTable,
   msdOptionsFrom,
-  plateauOptions,
+  plateauValues,
   siteOptions,
   type PlateauCliOptions,
   type SiteCliOptions,
@@ -116,6 +117,7 @@ export interface DiffusionResult {
 export async function batchedDiffusion(
   file: string,
   opts: TrajectoryOptions,
+  cc: CommandContext,
   plan: SiteBatchPlan,
   layoutSpec: (t: Topology) => SiteLayout,
   removeDrift: boolean,
@@ -128,7 +130,7 @@ export async function batchedDiffusion(
   let mplan: MsdPlan | null = null;
   let vplan: VacfPlan | null = null;
   const comps = planeComponents(mo.plane);
-  const b = await readStoreInBatches(file, opts, plan, () => ({ layout: layoutSpec, removeDrift, keepVelocities: true }), warnings, (store, batch, run) => {
+  const b = await readStoreInBatches(file, opts, cc, plan, () => ({ layout: layoutSpec, removeDrift, keepVelocities: true }), warnings, (store, batch, run) => {
     const layout = layoutSpec(run.ctx.topology);
     const dt = requireFrameInterval(run.ctx);
     const gs = groupSitesInBatch(layout, batch);
@@ -197,7 +199,7 @@ export function renderDiffusion(file: string, r: DiffusionResult): string {
 }
 
 /** Register the command on the program (src/commands/index.ts). */
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('diffusion <file>')
     .description('self-diffusion per species from the MSD and from the VACF in one read, side by side, with a disagreement flag');
@@ -212,24 +214,24 @@ export function register(program: Command): void {
   addTrajectoryOptions(cmd).action(async (file: string, opts: DiffusionCliOptions) => {
     const warnings: string[] = [];
     const mo = msdOptionsFrom(opts);
-    const po = plateauOptions(opts);
+    const po = plateauValues(opts);
     const so = siteOptions(opts);
     const vo: VacfOptions = { ...po, plane: so.plane };
     const layoutSpec = (t: Topology) => speciesLayout(t, so);
     // One store serves both: positions (24 B per site and frame) and, when the file has them,
     // velocities (another 24 B).
-    const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes);
+    const plan = await planSiteBatches(file, opts, cc, layoutSpec, vacfStoreBytes);
     let msd: MsdResult;
     let vacf: VacfResult;
     let run: TrajectoryRun;
     let memory: { reads: number; bytesHeld: number; memoryNote: string | null };
     if (plan) {
-      const b = await batchedDiffusion(file, opts, plan, layoutSpec, !so.keepDrift, mo, vo, warnings);
+      const b = await batchedDiffusion(file, opts, cc, plan, layoutSpec, !so.keepDrift, mo, vo, warnings);
       ({ msd, vacf, run } = b);
       memory = { reads: b.reads, bytesHeld: b.bytesHeld, memoryNote: b.note };
     } else {
       const pass = storePass({ layout: layoutSpec, removeDrift: !so.keepDrift, keepVelocities: true });
-      run = await runOnTrajectory(file, opts, [pass], warnings);
+      run = await runOnTrajectory(file, opts, [pass], warnings, cc);
       const store = finishPasses([pass], run.partials, run.ctx).store as StorePartial;
       const layout = layoutSpec(run.ctx.topology);
       msd = analyseMsd(store, layout, run.ctx, mo);

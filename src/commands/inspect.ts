@@ -1,4 +1,5 @@
 /** `sojourn inspect FILE`: what a trajectory holds. */
+import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { overviewPass, type OverviewResult } from '../../analyses/overview.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
@@ -24,11 +25,11 @@ export function renderOverview(file: string, r: OverviewResult): string {
   return `${file}\n${formatTable(['property', 'value'], rows)}`;
 }
 
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program.command('inspect <file>').description('report what a trajectory holds: frames, atoms, species, cell, densities');
   addTrajectoryOptions(cmd).action(async (file: string, opts: TrajectoryOptions) => {
     const warnings: string[] = [];
-    const run = await runOnTrajectory(file, opts, [overviewPass], warnings);
+    const run = await runOnTrajectory(file, opts, [overviewPass], warnings, cc);
     const results = finishPasses([overviewPass], run.partials, run.ctx).overview as OverviewResult;
     emit('inspect', opts, [run.input], { ...opts }, results, warnings, () => renderOverview(file, results));
   });

@@ -4,6 +4,7 @@
  * the optional Yeh–Hummer finite-size correction. Also the option helpers shared by the
  * `vacf`, `diffusion` and `conductivity` commands.
  */
+import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import {
   addGroupSums,
@@ -24,6 +25,8 @@ import {
   type StoreOptions,
   type StorePartial,
 } from '../../analyses/msd.js';
+import { SITE_OPTIONS, PLANE_OPTION, SHARED, plateauOptions, readOptionValues } from '../engine/options.js';
+import { commanderOption } from './analysis.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
 import type { PassContext, Topology } from '../types.js';
 import type { TrajectoryRun } from './common.js';
@@ -60,19 +63,21 @@ export interface PlateauCliOptions {
   segments?: string;
 }
 
+/** The plateau options as analysis options. */
+export function plateauValues(o: PlateauCliOptions): { plateauTolerance?: number; plateauSpan?: number; segments?: number } {
+  const v = readOptionValues(plateauOptions({ tolerance: DEFAULT_PLATEAU_TOLERANCE, span: DEFAULT_PLATEAU_SPAN }), o as Record<string, unknown>);
+  return { plateauTolerance: v.plateauTolerance as number | undefined, plateauSpan: v.plateauSpan as number | undefined, segments: parseSegments(o.segments) };
+}
+
 /** Accumulate a repeatable option into an array. */
 export function collect(value: string, previous: string[] = []): string[] {
   return [...previous, value];
 }
 
-/** Add --select, --species, --molecules, --plane and --keep-drift. */
+/** Add --select, --species, --molecules, --keep-drift (src/engine/options.ts) and --plane. */
 export function addSiteOptions(cmd: Command, withPlane = true): Command {
-  cmd
-    .option('--select <sel>', 'atoms to analyse (selection syntax: "Na", "el=O&res=SOL", "idx=0-99"); default all')
-    .option('--species <sel>', 'report this selection as one group (repeatable); default one group per atom label', collect)
-    .option('--molecules', 'follow molecule (residue) centres of mass instead of atoms; groups by residue name')
-    .option('--keep-drift', 'do not remove the centre-of-mass drift (removed by default, mass-weighted over all atoms)');
-  if (withPlane) cmd.option('--plane <xy|xz|yz>', '2-D diffusion in a plane (d = 2) instead of 3-D');
+  for (const spec of SITE_OPTIONS) cmd.addOption(commanderOption(spec));
+  if (withPlane) cmd.addOption(commanderOption(PLANE_OPTION));
   return cmd;
 }
 
@@ -87,9 +92,7 @@ export function addWindowOptions(cmd: Command): Command {
 
 /** Add --plateau-tolerance and --plateau-span (and --segments when not yet there). */
 export function addPlateauOptions(cmd: Command, withSegments: boolean): Command {
-  cmd
-    .option('--plateau-tolerance <x>', `plateau: largest relative change of the running integral over the span (default ${DEFAULT_PLATEAU_TOLERANCE})`)
-    .option('--plateau-span <f>', `plateau: span as a fraction of the lags a segment holds (default ${DEFAULT_PLATEAU_SPAN})`);
+  for (const spec of plateauOptions({ tolerance: DEFAULT_PLATEAU_TOLERANCE, span: DEFAULT_PLATEAU_SPAN })) cmd.addOption(commanderOption(spec));
   if (withSegments) cmd.option('--segments <M>', `independent segments for the uncertainty (default ${DEFAULT_SEGMENTS})`);
   return cmd;
 }
@@ -119,15 +122,6 @@ export function windowOptions(o: WindowCliOptions): { fitFrom?: number; fitTo?: 
   return { fitFrom, fitTo, tolerance: parseFraction(o.slopeTolerance, '--slope-tolerance', 0, 1), segments: parseSegments(o.segments) };
 }
 
-/** The plateau options as analysis options. */
-export function plateauOptions(o: PlateauCliOptions): { plateauTolerance?: number; plateauSpan?: number; segments?: number } {
-  return {
-    plateauTolerance: parseFraction(o.plateauTolerance, '--plateau-tolerance', 0, 1),
-    plateauSpan: parseFraction(o.plateauSpan, '--plateau-span', 0, 0.5),
-    segments: parseSegments(o.segments),
-  };
-}
-
 /** The site options as layout options. */
 export function siteOptions(o: SiteCliOptions): SpeciesLayoutOptions & { keepDrift?: boolean; plane?: string } {
   return { selection: o.select, species: o.species, molecules: o.molecules, keepDrift: o.keepDrift, plane: o.plane };
@@ -138,16 +132,14 @@ export const dTable = (q: Quantity | null) => formatQuantity(q, 1e9, '');
 
 /** Add --max-memory (the commands that store whole time series). */
 export function addMemoryOption(cmd: Command): Command {
-  return cmd.option(
-    '--max-memory <size>',
-    'largest memory for stored coordinates, e.g. 512MB or 2GB; beyond it the atoms are processed in batches, one read of the file each',
-  );
+  return cmd.addOption(commanderOption(SHARED.maxMemory));
 }
 
 /** The MSD of a run whose sites did not fit in memory at once: one read per batch of sites. */
 export async function batchedMsd(
   file: string,
   opts: TrajectoryOptions,
+  cc: CommandContext,
   plan: SiteBatchPlan,
   layoutSpec: (t: Topology) => SiteLayout,
   removeDrift: boolean,
@@ -161,7 +153,7 @@ export async function batchedMsd(
   // time, and counts long unwrapping steps once when every read unwraps the same atoms.
   const r = await readStoreInBatches(
     file,
-    opts,
+    opts, cc,
     plan,
     (_batch, i) => ({ layout: layoutSpec, removeDrift, keepVelocities: false, ...(i === 0 ? firstRead : {}) }),
     warnings,
@@ -246,7 +238,7 @@ export function msdOptionsFrom(opts: MsdCliOptions): MsdOptions {
 }
 
 /** Register the command on the program (src/commands/index.ts). */
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('msd <file>')
     .description('mean-squared displacement and self-diffusion coefficient per species, with fit window and uncertainty');
@@ -264,14 +256,14 @@ export function register(program: Command): void {
     if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
     const so = siteOptions(opts);
     const layoutSpec = (t: Topology) => speciesLayout(t, so);
-    const plan = await planSiteBatches(file, opts, layoutSpec, 24);
+    const plan = await planSiteBatches(file, opts, cc, layoutSpec, 24);
     let results: MsdResult;
     let run: TrajectoryRun;
     if (plan) {
-      ({ result: results, run } = await batchedMsd(file, opts, plan, layoutSpec, !so.keepDrift, mo, warnings));
+      ({ result: results, run } = await batchedMsd(file, opts, cc, plan, layoutSpec, !so.keepDrift, mo, warnings));
     } else {
       const pass = msdPass({ ...so, ...mo });
-      run = await runOnTrajectory(file, opts, [pass], warnings);
+      run = await runOnTrajectory(file, opts, [pass], warnings, cc);
       results = finishPasses([pass], run.partials, run.ctx).msd as MsdResult;
     }
     if (opts.csv) await writeFileAtomic(opts.csv, msdCsv(results));

@@ -3,6 +3,7 @@
  * numbers, first-shell positions and block error bars; optionally the structure factor, the
  * Lennard-Jones energy and pressure routes and Kirkwood–Buff integrals from the same g(r).
  */
+import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { Option } from 'commander';
 import { rdfPass, type RdfResult, type RdfPairResult, type RdfSpec } from '../../analyses/rdf.js';
@@ -182,7 +183,7 @@ function collect(value: string, previous: string[] | undefined): string[] {
 }
 
 /** Register the command and its options on the program. */
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('rdf <file>')
     .description('radial distribution functions g(r), running coordination numbers and first shells, with block error bars')
@@ -205,7 +206,7 @@ export function register(program: Command): void {
     const spec = rdfSpecFromOptions(opts);
     const pass = rdfPass(spec);
     if (opts.csv) checkOutputPrefix(opts.csv, '--csv');
-    const run = await runOnTrajectory(file, opts, [pass], warnings);
+    const run = await runOnTrajectory(file, opts, [pass], warnings, cc);
     const results = finishPasses([pass], run.partials, run.ctx).rdf as RdfResult;
     if (opts.csv) {
       const names = await writeRdfCsv(opts.csv, results, [file]);

@@ -17,13 +17,14 @@
  * species) and of the VACF; the first read also keeps the collective sums Σq r and Σq v per frame
  * for the conductivity. The analyses finish from the totals, as from one read.
  */
+import type { CommandContext } from './common.js';
 import * as path from 'node:path';
-import { isMainThread } from 'node:worker_threads';
 import { Option, type Command } from 'commander';
 import { readTable, type TableData } from '../../readers/index.js';
 import { overviewPass, massDensity, type OverviewResult } from '../../analyses/overview.js';
 import { framewiseObservables, type FramewiseResult } from '../../analyses/framewise.js';
-import { rdfPass, mergeRdfPartials, type RdfPartial, type RdfSpec } from '../../analyses/rdf.js';
+import { chargesFor, reportRdfPass } from '../../analyses/rdf-auto.js';
+import { makePass } from '../../analyses/index.js';
 import { shellPass, type ShellResult } from '../../analyses/shell.js';
 import {
   addGroupSums,
@@ -61,8 +62,7 @@ import { analyseSeries } from '../../analyses/converge.js';
 import { addTrajectoryOptions, parsePositiveTime, printWarnings, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
 import { addMemoryOption } from './msd.js';
-import { vacfStoreBytes } from './vacf.js';
-import { currentInvocation, workerCapture } from './parallel.js';
+import { vacfStoreBytes } from '../../analyses/vacf.js';
 import { uniformStep } from './converge.js';
 import { pickStressColumns } from './viscosity.js';
 import { parseQuantity, UNIT_FACTORS } from '../units.js';
@@ -71,7 +71,7 @@ import { refuseOverwritingInputs, toJson, type InputRecord } from '../output.js'
 import { VERSION } from '../version.js';
 import type { Pass, PassContext, Topology } from '../types.js';
 import type { Boundary } from '../transport.js';
-import { chargeLayoutOnStore, chooseRdfPairs, type RdfPairChoice } from '../report/choose.js';
+import { chargeLayoutOnStore } from '../report/choose.js';
 // The report writers (plots, HTML) are loaded only when a report is written, not in workers.
 import type { ReportData } from '../report/build.js';
 import type { StagedDirectory } from '../report/write.js';
@@ -92,47 +92,6 @@ interface ReportCliOptions extends TrajectoryOptions {
   shell?: string[];
   rdfBinWidth: string;
   rdfRMax?: string;
-}
-
-/** Result of the report's g(r) pass: the g(r) result and the pairs, or why it was not run. */
-export type ReportRdf = { result: ReturnType<ReturnType<typeof rdfPass>['finish']>; pairs: RdfPairChoice[]; rule: string } | { skipped: string };
-
-/** Charges per atom from --charges rules, else the file's formal charges when any is non-zero, else null. */
-export function chargesFor(topology: Topology, rules: ChargeRule[] | null): Float64Array | null {
-  if (rules) return atomCharges(topology, rules);
-  if (topology.charges && topology.charges.some((q) => q !== 0)) return Float64Array.from(topology.charges);
-  return null;
-}
-
-/**
- * The g(r) pass of the report. Its pairs depend on the labels, which are known only when the
- * first frame arrives, so the real pass (analyses/rdf.ts) is built in `create` and again in
- * `finish` from the same topology by the same rule (chooseRdfPairs, deterministic). Without a
- * periodic cell the pass records why it was not run.
- */
-export function reportRdfPass(spec: Omit<RdfSpec, 'pairs'>, rules: ChargeRule[] | null): Pass<RdfPartial | { skipped: string }, ReportRdf> {
-  const choose = (ctx: PassContext) => chooseRdfPairs(ctx.topology, chargesFor(ctx.topology, rules));
-  const inner = (choice: { pairs: RdfPairChoice[] }) => rdfPass({ ...spec, pairs: choice.pairs.map((p) => ({ a: p.a, b: p.b })) });
-  return {
-    name: 'rdf',
-    create(ctx) {
-      if (!ctx.firstCell) {
-        const skipped = { skipped: 'the trajectory has no periodic cell: give it with --box a,b,c' };
-        return { frame() {}, partial: () => skipped };
-      }
-      return inner(choose(ctx)).create(ctx);
-    },
-    merge(a, b) {
-      if ('skipped' in a) return a;
-      if ('skipped' in b) return b;
-      return mergeRdfPartials(a, b);
-    },
-    finish(p, ctx) {
-      if ('skipped' in p) return p;
-      const choice = choose(ctx);
-      return { result: inner(choice).finish(p, ctx), ...choice };
-    },
-  };
 }
 
 /** Parse --shell "CENTRE:AROUND:CUTOFF" (selections cannot contain ':'), e.g. "Na:Sv:3.4A". */
@@ -232,6 +191,7 @@ interface BatchedReport {
 async function batchedReport(
   file: string,
   opts: ReportCliOptions,
+  cc: CommandContext,
   plan: SiteBatchPlan,
   layoutSpec: (t: Topology) => SiteLayout,
   rules: ChargeRule[] | null,
@@ -259,7 +219,7 @@ async function batchedReport(
   });
   const b = await readStoreInBatches(
     file,
-    opts,
+    opts, cc,
     plan,
     storeOptions,
     warnings,
@@ -329,7 +289,7 @@ async function batchedReport(
 }
 
 /** Register the command on the program (src/commands/index.ts). */
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('report <trajectory>')
     .description('every applicable analysis from one read of the trajectory (plus pressure and energy tables), joined, written atomically to a directory: results.json, CSV, SVG, report.html')
@@ -369,15 +329,15 @@ export function register(program: Command): void {
     // The store holds every atom: positions, and velocities when the file has them; per frame the
     // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
     const layoutSpec = (t: Topology) => speciesLayout(t, {});
-    const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
+    const plan = await planSiteBatches(file, opts, cc, layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
 
-    // Workers (and a run whose partials are handed to a parent) only read frames: no output.
-    const writesOutput = isMainThread && workerCapture() === null;
-    let staged: StagedDirectory | null = null;
-    if (writesOutput) staged = await (await import('../report/write.js')).stageDirectory(opts.out);
+    const staged: StagedDirectory | null = await (await import('../report/write.js')).stageDirectory(opts.out);
     try {
-      const rdf = reportRdfPass({ rMax, binWidth, skipSameMolecule: false, blocks: null, method: 'auto' }, rules);
-      const shellPasses = shells.map((s) => shellPass({ center: s.center, around: s.around, cutoff: s.cutoff, tolerance: 2 }));
+      // Every pass is built from its recipe (analyses/index.ts), so threads and merges rebuild it.
+      const rdf = makePass<ReturnType<typeof reportRdfPass>>('rdf-auto', { spec: { rMax, binWidth, skipSameMolecule: false, blocks: null, method: 'auto' }, rules });
+      const shellPasses = shells.map((s) => makePass<ReturnType<typeof shellPass>>('shell', { center: s.center, around: s.around, cutoff: s.cutoff, tolerance: 2 }));
+      const overviewP = makePass<typeof overviewPass>('overview');
+      const framewiseP = makePass<typeof framewiseObservables>('framewise');
       let run: TrajectoryRun;
       let ctx: PassContext;
       let storeP: StorePartial;
@@ -386,8 +346,8 @@ export function register(program: Command): void {
       let finishers: TransportFinishers;
       let memoryNote: string | null = null;
       if (plan) {
-        const streaming = [overviewPass, framewiseObservables, rdf, ...shellPasses] as Pass[];
-        const b = await batchedReport(file, opts, plan, layoutSpec, rules, streaming, warnings);
+        const streaming = [overviewP, framewiseP, rdf, ...shellPasses] as Pass[];
+        const b = await batchedReport(file, opts, cc, plan, layoutSpec, rules, streaming, warnings);
         run = b.first;
         ctx = b.ctx;
         storeP = b.info;
@@ -395,9 +355,9 @@ export function register(program: Command): void {
         finishers = b.finishers;
         memoryNote = b.note;
       } else {
-        const store = storePass({ layout: layoutSpec, removeDrift: true, keepVelocities: true });
-        const passes: Pass[] = [overviewPass, framewiseObservables, store, rdf, ...shellPasses] as Pass[];
-        run = await runOnTrajectory(file, opts, passes, warnings);
+        const store = makePass('species-store', { layout: {}, removeDrift: true, keepVelocities: true });
+        const passes: Pass[] = [overviewP, framewiseP, store, rdf, ...shellPasses] as Pass[];
+        run = await runOnTrajectory(file, opts, passes, warnings, cc);
         ctx = run.ctx;
         storeP = run.partials[2] as StorePartial;
         streamed = [run.partials[0], run.partials[1], ...run.partials.slice(3)];
@@ -525,11 +485,10 @@ export function register(program: Command): void {
       }
       for (const [k, v] of Object.entries(skipped)) warnings.push(`${k} not computed: ${v}`);
 
-      const inv = currentInvocation();
       const data: ReportData = {
         title: `sojourn report: ${path.basename(file)}`,
         version: VERSION,
-        commandLine: ['sojourn', inv.command || 'report', ...inv.args],
+        commandLine: ['sojourn', ...(cc.args.length > 0 ? cc.args : ['report'])],
         options: { ...opts },
         started,
         inputs,

@@ -3,6 +3,7 @@
  * and the solvent viscosity (or the reverse), compared with its Shannon crystal radius, plus the
  * Walden product when a molar conductivity is given.
  */
+import type { CommandContext } from './common.js';
 import { Option, type Command } from 'commander';
 import { addOutputOptions, emit } from './common.js';
 import { parseQuantity, UNIT_FACTORS, type Dimension } from '../units.js';
@@ -104,7 +105,7 @@ export function renderStokes(r: StokesResult): string {
   return out.join('\n');
 }
 
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('stokes')
     .description('Stokes–Einstein hydrodynamic radius from D and η (or D from a radius), against the Shannon crystal radius; Walden product')

@@ -2,6 +2,7 @@
  * `sojourn viscosity TABLE`: shear viscosity from a pressure-tensor time series by Green–Kubo
  * (time decomposition, Daivis–Evans component averaging) with an Einstein–Helfand cross-check.
  */
+import { readingContext, type CommandContext } from './common.js';
 import { Option, type Command } from 'commander';
 import { readTable, type TableData } from '../../readers/index.js';
 import { overviewPass, type OverviewResult } from '../../analyses/overview.js';
@@ -92,7 +93,7 @@ function stressColumns(table: TableData, map: Map<TensorKey, string>): StressCol
 
 /** Mean cell volume (Å³) of a trajectory, through the overview pass. */
 async function volumeFromTrajectory(file: string, warnings: string[], quiet?: boolean): Promise<{ volume: number; input: InputRecord; varies: boolean }> {
-  const run = await runOnTrajectory(file, { quiet }, [overviewPass], warnings);
+  const run = await runOnTrajectory(file, { quiet, threads: '1' }, [overviewPass], warnings, readingContext([]));
   const ov = finishPasses([overviewPass], run.partials, run.ctx).overview as OverviewResult;
   if (!ov.meanVolume) throw new UsageError(`--cell-from ${file}: the trajectory has no periodic cell; give --volume instead`);
   return { volume: ov.meanVolume.value, input: run.input, varies: ov.cellVaries };
@@ -156,7 +157,7 @@ export function viscosityCsv(a: ViscosityAnalysis): string {
   return toCsv(['time_ps', 'eta_Pa_s', 'sigma_Pa_s', 'fit_Pa_s'], [pick(time), pick(eta), pick(sigma), pick(fit)]);
 }
 
-export function register(program: Command): void {
+export function register(program: Command, cc: CommandContext): void {
   const cmd = program
     .command('viscosity <table>')
     .description('shear viscosity from a pressure-tensor table: Green–Kubo (time decomposition, all shear components) with an Einstein–Helfand cross-check')

@@ -1,0 +1,41 @@
+/**
+ * The registry: every analysis and every pass a command, a worker thread or a merge of partial
+ * files may build by name. Add one line per analysis.
+ */
+import type { Pass } from '../src/types.js';
+import type { AnyAnalysis } from '../src/engine/analysis.js';
+import { passFromRecipe, type PassFactory } from '../src/engine/recipes.js';
+import { overviewPass } from './overview.js';
+import { framewiseObservables } from './framewise.js';
+import { rdfPass } from './rdf.js';
+import { reportRdfPass } from './rdf-auto.js';
+import { shellAnalysis } from './shell.js';
+import { vacfAnalysis } from './vacf.js';
+import { msdPass } from './msd.js';
+import { conductivityPass } from './conductivity.js';
+import { speciesStorePass } from './msd.js';
+
+/** The analyses that are commands of their own (src/cli builds one command per entry). */
+export const ANALYSES: readonly AnyAnalysis[] = [shellAnalysis, vacfAnalysis];
+
+/** Pass factories by recipe kind: each analysis's own pass under its name, and shared passes. */
+export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
+  ...Object.fromEntries(ANALYSES.map((a) => [a.name, (o: unknown) => a.pass(o)])),
+  overview: () => overviewPass,
+  framewise: () => framewiseObservables,
+  rdf: rdfPass,
+  'rdf-auto': reportRdfPass,
+  msd: msdPass,
+  conductivity: conductivityPass,
+  'species-store': speciesStorePass,
+};
+
+/** Build the pass `kind` with `options` (plain data), carrying its recipe for threads and merges. */
+export function makePass<P extends Pass = Pass>(kind: string, options: unknown = null): P {
+  return passFromRecipe({ kind, options }, PASS_FACTORIES) as P;
+}
+
+/** The analysis registered under `name`, or undefined. */
+export function analysisNamed(name: string): AnyAnalysis | undefined {
+  return ANALYSES.find((a) => a.name === name);
+}

@@ -1,0 +1,145 @@
+/**
+ * The execution engine: run passes over one trajectory according to a plan — on one thread or
+ * on frame chunks over several threads (src/engine/threads.ts), or, instead of reading, from the
+ * partial-result files of separate jobs over frame ranges — and optionally write this run's
+ * partials for a later merge. It knows nothing of the command line.
+ */
+import type { Pass, Warnings } from '../types.js';
+import { UsageError, InputError } from '../errors.js';
+import { stageFile } from '../output.js';
+import { decodePartial, decodeTopology, encodePartial, encodeTopology, type PartialFile } from '../partials.js';
+import { VERSION } from '../version.js';
+import { readShare, type ReadSpec, type TrajectoryRun } from './read.js';
+import { readOnThreads } from './threads.js';
+import { recipeOf } from './recipes.js';
+import { readFile } from 'node:fs/promises';
+
+/** Where the partials come from: a read of the file, or partial-result files to merge. */
+export type RunSource = { kind: 'read' } | { kind: 'partials'; docs: PartialFile[] };
+
+/** How to run. */
+export interface ExecutePlan {
+  /** Threads, this one included; null = the number of cores for a plain file, 1 for gzip. */
+  threads: number | null;
+  source: RunSource;
+  /** Also write the partials here (staged: it appears only when the command succeeds). */
+  partialOut?: { path: string; command: string; argv: string[]; options: Record<string, unknown> };
+  /** Told the number of frames used so far (one-thread reads). */
+  onFrame?: (used: number) => void;
+  onDone?: () => void;
+}
+
+/** Run `passes` over the trajectory `spec` according to `plan`. */
+export async function execute(passes: Pass[], spec: ReadSpec, plan: ExecutePlan, warnings: Warnings): Promise<TrajectoryRun> {
+  if (plan.source.kind === 'partials') return mergePartialFiles(spec.file, plan.source.docs, passes, warnings);
+  const local = (range: ReadSpec['range'], share: Parameters<typeof readShare>[3]['plan']) => readShare(spec, passes, [], { range, plan: share });
+  let run = await readOnThreads(spec, passes, warnings, plan.threads, local);
+  if (!run) {
+    try {
+      run = await readShare(spec, passes, warnings, { range: spec.range, plan: null, ...(plan.onFrame ? { onFrame: plan.onFrame } : {}) });
+    } finally {
+      plan.onDone?.();
+    }
+  } else plan.onDone?.();
+  if (plan.partialOut) await writePartialFile(plan.partialOut, run, passes, warnings);
+  return run;
+}
+
+/** Write the partial results of a run (see src/partials.ts), staged until the command succeeds. */
+async function writePartialFile(target: NonNullable<ExecutePlan['partialOut']>, run: TrajectoryRun, passes: Pass[], warnings: Warnings): Promise<void> {
+  const doc: PartialFile = {
+    tool: 'sojourn',
+    kind: 'partial',
+    version: VERSION,
+    argv: target.argv,
+    command: target.command,
+    options: target.options,
+    passes: passes.map((p) => p.name),
+    recipes: passes.map(recipeOf),
+    input: { path: run.input.path, sha256: run.input.sha256, bytes: run.input.bytes, format: run.input.format },
+    firstIndex: run.firstIndex,
+    lastIndex: run.lastIndex,
+    framesUsed: run.framesUsed,
+    frameInterval: run.ctx.frameInterval,
+    firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
+    topology: encodeTopology(run.ctx.topology),
+    partials: run.partials.map(encodePartial),
+    warnings: [...warnings],
+  };
+  await stageFile(target.path, JSON.stringify(doc));
+}
+
+/** Options that do not take part in the same-options check (they differ between jobs by design). */
+const RANGE_OPTIONS = new Set(['frames', 'threads', 'partialOut', 'json', 'quiet']);
+
+/** The options of a partial file without the range and output ones, for comparison. */
+export function optionsForComparison(options: Record<string, unknown> | undefined): string {
+  const o = Object.entries(options ?? {}).filter(([k]) => !RANGE_OPTIONS.has(k));
+  o.sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0));
+  return JSON.stringify(o);
+}
+
+/**
+ * Load the partial files of jobs that analysed frame ranges of one trajectory, in frame order.
+ * They must come from the same command with the same options and the same input file.
+ */
+export async function loadPartialFiles(paths: string[]): Promise<PartialFile[]> {
+  const docs: PartialFile[] = [];
+  for (const p of paths) {
+    let doc: PartialFile;
+    try {
+      doc = JSON.parse(await readFile(p, 'utf8')) as PartialFile;
+    } catch (e) {
+      throw new InputError(p, null, null, `not a readable partial-result file (${(e as Error).message})`);
+    }
+    if (doc?.tool !== 'sojourn' || doc.kind !== 'partial' || !Array.isArray(doc.partials)) {
+      throw new InputError(p, null, null, 'not a sojourn partial-result file (written with --partial-out)');
+    }
+    docs.push(doc);
+  }
+  if (docs.length === 0) throw new UsageError('merge needs at least one partial-result file');
+  const first = docs[0]!;
+  for (const [i, d] of docs.entries()) {
+    if (d.command !== first.command || optionsForComparison(d.options) !== optionsForComparison(first.options)) {
+      throw new UsageError(`${paths[i]} was written by "${[d.command, ...d.argv].join(' ')}", not the same command and options as ${paths[0]}`);
+    }
+    if (d.input.sha256 !== first.input.sha256) {
+      throw new UsageError(`${paths[i]} comes from a different input file (SHA-256 differs from ${paths[0]})`);
+    }
+  }
+  docs.sort((a, b) => a.firstIndex - b.firstIndex);
+  return docs;
+}
+
+/** The run that the partial files add up to, merged with the passes' own `merge` in frame order. */
+function mergePartialFiles(file: string, docs: PartialFile[], passes: Pass[], warnings: Warnings): TrajectoryRun {
+  const names = passes.map((p) => p.name);
+  for (const d of docs) {
+    if (JSON.stringify(d.passes) !== JSON.stringify(names)) {
+      throw new UsageError(`partial file passes [${d.passes.join(', ')}] do not match this command's [${names.join(', ')}]`);
+    }
+  }
+  for (let i = 1; i < docs.length; i++) {
+    if (docs[i]!.firstIndex <= docs[i - 1]!.lastIndex) {
+      throw new UsageError(`partial files overlap: frames ${docs[i - 1]!.firstIndex}–${docs[i - 1]!.lastIndex} and ${docs[i]!.firstIndex}–${docs[i]!.lastIndex}`);
+    }
+  }
+  for (const d of docs) warnings.push(...d.warnings);
+  const parts = docs.map((d) => d.partials.map(decodePartial));
+  let merged = parts[0]!;
+  for (let i = 1; i < parts.length; i++) merged = merged.map((m, k) => passes[k]!.merge(m, parts[i]![k]));
+  const d0 = docs[0]!;
+  return {
+    ctx: {
+      topology: decodeTopology(d0.topology),
+      firstCell: d0.firstCell ? Float64Array.from(d0.firstCell) : null,
+      frameInterval: d0.frameInterval,
+      warnings,
+    },
+    partials: merged,
+    framesUsed: docs.reduce((s, d) => s + d.framesUsed, 0),
+    firstIndex: d0.firstIndex,
+    lastIndex: docs[docs.length - 1]!.lastIndex,
+    input: { path: file, sha256: d0.input.sha256, bytes: d0.input.bytes, format: d0.input.format, frames: null },
+  };
+}

@@ -1,0 +1,86 @@
+/**
+ * One read of a trajectory (or of one share of it) through a set of passes. What to read is
+ * plain data (`ReadSpec`), so that the same description reaches worker threads unchanged.
+ */
+import { openTrajectory } from '../../readers/index.js';
+import type { FrameSeed } from '../../readers/common.js';
+import { runPasses, type FrameRange, type RunOutput } from '../runner.js';
+import type { InputRecord } from '../output.js';
+import type { CellMatrix, Pass, Warnings } from '../types.js';
+
+/** What to read and how: every field is plain data (structured-clone safe). */
+export interface ReadSpec {
+  /** Path, or '-' for standard input. */
+  file: string;
+  format?: 'xyz' | 'pdb';
+  /** A truncated last frame is an error instead of a warning. */
+  strict: boolean;
+  /** Cell for frames that carry none (Å), or null. */
+  cell: CellMatrix | null;
+  /** Time between stored frames given by the user (ps), or null. */
+  frameInterval: number | null;
+  /** Frames to use; absent = all. */
+  range?: FrameRange;
+  /** Masses (g/mol) by atom label that replace the element-based ones. */
+  masses?: Array<[string, number]>;
+}
+
+/**
+ * How one thread reads its share, worked out by the parent from its frame index (readers/scan.ts):
+ * the format, the digest and size of the whole file (the parent's scan hashed it once, so the
+ * share hashes nothing), and for a plain file the byte offset, line and carried state of the
+ * share's first frame and the offset where the share ends. A gzip file cannot be entered in the
+ * middle: its shares read from the start, skipping earlier frames, and stop after their share.
+ */
+export interface SharePlan {
+  format: 'xyz' | 'pdb';
+  sha256: string;
+  bytes: number;
+  start?: { offset: number; line: number; index: number; seed: FrameSeed | null };
+  end?: number;
+}
+
+/** Result of reading one trajectory through a set of passes. */
+export interface TrajectoryRun extends RunOutput {
+  input: InputRecord;
+}
+
+/**
+ * Read `spec.file` (or the share a plan describes) through `passes`, frames restricted to
+ * `range`; `onFrame` is told the number of frames used so far.
+ */
+export async function readShare(
+  spec: ReadSpec,
+  passes: Pass[],
+  warnings: Warnings,
+  how: { range: FrameRange | undefined; plan: SharePlan | null; onFrame?: (used: number) => void },
+): Promise<TrajectoryRun> {
+  const { plan } = how;
+  const input = await openTrajectory(spec.file, {
+    format: plan?.format ?? spec.format,
+    strict: spec.strict,
+    warnings,
+    // A share of a parallel run: no hashing (the parent's scan did it) and no reading thread (the
+    // other threads fill the cores; a helper would only compete with them, and cost its start-up
+    // for every share).
+    ...(plan ? { hash: false, thread: false, ...(plan.start ? { start: plan.start } : {}), ...(plan.end !== undefined ? { end: plan.end } : {}) } : {}),
+  });
+  const out = await runPasses(input, passes, {
+    frameInterval: spec.frameInterval,
+    cell: spec.cell,
+    range: how.range,
+    warnings,
+    ...(spec.masses ? { masses: new Map(spec.masses) } : {}),
+    ...(how.onFrame ? { onFrame: how.onFrame } : {}),
+  });
+  return {
+    ...out,
+    input: {
+      path: spec.file,
+      sha256: plan ? plan.sha256 : input.sha256(),
+      bytes: plan ? plan.bytes : input.rawBytes(),
+      format: input.format,
+      frames: input.framesComplete(),
+    },
+  };
+}
