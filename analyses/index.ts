@@ -4,7 +4,7 @@
  */
 import type { Pass } from '../src/types.js';
 import type { AnyAnalysis } from '../src/engine/analysis.js';
-import { passFromRecipe, type PassFactory } from '../src/engine/recipes.js';
+import { passFromRecipe, type PassFactory, type PassRecipe } from '../src/engine/recipes.js';
 import { overviewPass } from './overview.js';
 import { framewiseObservables } from './framewise.js';
 import { rdfPass } from './rdf.js';
@@ -31,8 +31,8 @@ export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
 };
 
 /** Build the pass `kind` with `options` (plain data), carrying its recipe for threads and merges. */
-export function makePass<P extends Pass = Pass>(kind: string, options: unknown = null): P {
-  return passFromRecipe({ kind, options }, PASS_FACTORIES) as P;
+export function makePass<P extends Pass = Pass>(kind: string, options: unknown = null): P & { readonly recipe: PassRecipe } {
+  return passFromRecipe({ kind, options }, PASS_FACTORIES) as P & { readonly recipe: PassRecipe };
 }
 
 /** The analysis registered under `name`, or undefined. */

@@ -13,6 +13,8 @@
  * first read may carry further passes, e.g. the report's streaming analyses), and the run's
  * records (cell, drift, unwrapping, collective charge sums) without coordinates afterwards.
  */
+import { execute } from '../engine/execute.js';
+import { readSpecOf } from './common.js';
 import { openTrajectory } from '../../readers/index.js';
 import { countFrames } from '../../readers/scan.js';
 import { parseFrameRange } from '../runner.js';
@@ -159,7 +161,8 @@ export async function readInBatches(
   const seen = new Set(warnings);
   for (const [i, batch] of plan.batches.entries()) {
     const w: string[] = [];
-    const run = await runOnTrajectory(file, { ...opts, threads: '1' }, passesFor(batch, i), w, cc);
+    // A batch read runs on one thread: its store is built for the batch's sites here.
+    const run = await execute(passesFor(batch, i), readSpecOf(file, opts), { threads: 1, source: cc.source }, w);
     for (const x of w) {
       if (!seen.has(x)) {
         seen.add(x);

@@ -12,6 +12,7 @@ import { UsageError } from '../errors.js';
 import { checkOutputFile, envelope, toJson, type InputRecord } from '../output.js';
 import { execute, type RunSource } from '../engine/execute.js';
 import type { ReadSpec, TrajectoryRun } from '../engine/read.js';
+import type { RecipePass } from '../engine/recipes.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
 
 /** Options every trajectory command accepts. */
@@ -140,7 +141,7 @@ const RUN_KEYS = new Set(['frames', 'threads', 'partialOut']);
 export async function runOnTrajectory(
   file: string,
   opts: TrajectoryOptions,
-  passes: Pass[],
+  passes: RecipePass[],
   warnings: Warnings,
   cc: CommandContext,
 ): Promise<TrajectoryRun> {

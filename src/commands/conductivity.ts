@@ -4,6 +4,8 @@
  * correlations) and Green–Kubo (when the file has velocities); ionicity, Haven ratio and molar
  * conductivity, each with its uncertainty and fit window.
  */
+import { makePass } from '../../analyses/index.js';
+import type { StorePartial } from '../../analyses/msd.js';
 import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { analyseConductivity, conductivityLayout, conductivityPass, parseChargeRules, type ConductivityResult } from '../../analyses/conductivity.js';
@@ -165,9 +167,9 @@ export function register(program: Command, cc: CommandContext): void {
       const layout = layoutSpec(b.ctx.topology);
       results = analyseConductivity(b.store, layout, b.ctx, copts, b.result, { reads: b.result.reads, bytesHeld: b.result.bytesHeld, note: b.result.memoryNote ?? undefined });
     } else {
-      const pass = conductivityPass(copts);
+      const pass = makePass<ReturnType<typeof conductivityPass>>('conductivity', copts);
       run = await runOnTrajectory(file, opts, [pass], warnings, cc);
-      results = finishPasses([pass], run.partials, run.ctx).conductivity as ConductivityResult;
+      results = pass.finish(run.partials[0] as StorePartial, run.ctx);
     }
     if (opts.csv) await writeFileAtomic(opts.csv, conductivityCsv(results));
     emit('conductivity', opts, [run.input], { ...opts }, results, warnings, () => renderConductivity(file, results));

@@ -3,6 +3,8 @@
  * per-frame cell volume and density of a trajectory): equilibration point, statistical
  * inefficiency, effective samples, mean ± standard error, block averaging, drift, and a verdict.
  */
+import { makePass } from '../../analyses/index.js';
+import type { FramewisePartial } from '../../analyses/framewise.js';
 import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { readTable, formatFromName } from '../../readers/index.js';
@@ -90,8 +92,9 @@ export function register(program: Command, cc: CommandContext): void {
     const series: SeriesReport[] = [];
     let input: InputRecord;
     if (formatFromName(file) !== null || opts.format) {
-      const run = await runOnTrajectory(file, opts, [framewiseObservables], warnings, cc);
-      const fw = finishPasses([framewiseObservables], run.partials, run.ctx).framewise as FramewiseResult;
+      const pass = makePass<typeof framewiseObservables>('framewise');
+      const run = await runOnTrajectory(file, opts, [pass], warnings, cc);
+      const fw = pass.finish(run.partials[0] as FramewisePartial, run.ctx);
       const dt = run.ctx.frameInterval;
       if (fw.volume) series.push(analyseSeries('cell volume', fw.volume, { dt, unit: 'A^3', target, minEffective }));
       if (fw.density) series.push(analyseSeries('number density', fw.density, { dt, unit: '1/A^3', target, minEffective }));

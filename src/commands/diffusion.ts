@@ -3,6 +3,8 @@
  * read of the trajectory — the MSD slope (Einstein) and the VACF plateau (Green–Kubo) — side by
  * side, flagged when they disagree by more than DISAGREEMENT_FACTOR combined standard errors.
  */
+import { makePass } from '../../analyses/index.js';
+import { speciesStorePass } from '../../analyses/msd.js';
 import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import {
@@ -230,9 +232,10 @@ export function register(program: Command, cc: CommandContext): void {
       ({ msd, vacf, run } = b);
       memory = { reads: b.reads, bytesHeld: b.bytesHeld, memoryNote: b.note };
     } else {
-      const pass = storePass({ layout: layoutSpec, removeDrift: !so.keepDrift, keepVelocities: true });
+      const layoutOptions = { selection: so.selection, species: so.species, molecules: so.molecules };
+      const pass = makePass<ReturnType<typeof speciesStorePass>>('species-store', { layout: layoutOptions, removeDrift: !so.keepDrift, keepVelocities: true });
       run = await runOnTrajectory(file, opts, [pass], warnings, cc);
-      const store = finishPasses([pass], run.partials, run.ctx).store as StorePartial;
+      const store = pass.finish(run.partials[0] as StorePartial, run.ctx);
       const layout = layoutSpec(run.ctx.topology);
       msd = analyseMsd(store, layout, run.ctx, mo);
       vacf = analyseVacf(store, layout, run.ctx, vo);

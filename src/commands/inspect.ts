@@ -1,4 +1,6 @@
 /** `sojourn inspect FILE`: what a trajectory holds. */
+import { makePass } from '../../analyses/index.js';
+import type { OverviewPartial } from '../../analyses/overview.js';
 import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { overviewPass, type OverviewResult } from '../../analyses/overview.js';
@@ -29,8 +31,9 @@ export function register(program: Command, cc: CommandContext): void {
   const cmd = program.command('inspect <file>').description('report what a trajectory holds: frames, atoms, species, cell, densities');
   addTrajectoryOptions(cmd).action(async (file: string, opts: TrajectoryOptions) => {
     const warnings: string[] = [];
-    const run = await runOnTrajectory(file, opts, [overviewPass], warnings, cc);
-    const results = finishPasses([overviewPass], run.partials, run.ctx).overview as OverviewResult;
+    const pass = makePass<typeof overviewPass>('overview');
+    const run = await runOnTrajectory(file, opts, [pass], warnings, cc);
+    const results = pass.finish(run.partials[0] as OverviewPartial, run.ctx);
     emit('inspect', opts, [run.input], { ...opts }, results, warnings, () => renderOverview(file, results));
   });
 }

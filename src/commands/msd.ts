@@ -4,6 +4,7 @@
  * the optional Yeh–Hummer finite-size correction. Also the option helpers shared by the
  * `vacf`, `diffusion` and `conductivity` commands.
  */
+import { makePass } from '../../analyses/index.js';
 import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import {
@@ -262,9 +263,9 @@ export function register(program: Command, cc: CommandContext): void {
     if (plan) {
       ({ result: results, run } = await batchedMsd(file, opts, cc, plan, layoutSpec, !so.keepDrift, mo, warnings));
     } else {
-      const pass = msdPass({ ...so, ...mo });
+      const pass = makePass<ReturnType<typeof msdPass>>('msd', { ...so, ...mo });
       run = await runOnTrajectory(file, opts, [pass], warnings, cc);
-      results = finishPasses([pass], run.partials, run.ctx).msd as MsdResult;
+      results = pass.finish(run.partials[0] as StorePartial, run.ctx);
     }
     if (opts.csv) await writeFileAtomic(opts.csv, msdCsv(results));
     emit('msd', opts, [run.input], { ...opts }, results, warnings, () => renderMsd(file, results));

@@ -3,6 +3,8 @@
  * numbers, first-shell positions and block error bars; optionally the structure factor, the
  * Lennard-Jones energy and pressure routes and Kirkwood–Buff integrals from the same g(r).
  */
+import { makePass } from '../../analyses/index.js';
+import type { RdfPartial } from '../../analyses/rdf.js';
 import type { CommandContext } from './common.js';
 import type { Command } from 'commander';
 import { Option } from 'commander';
@@ -204,10 +206,10 @@ export function register(program: Command, cc: CommandContext): void {
   addTrajectoryOptions(cmd).action(async (file: string, opts: RdfOptions) => {
     const warnings: string[] = [];
     const spec = rdfSpecFromOptions(opts);
-    const pass = rdfPass(spec);
+    const pass = makePass<ReturnType<typeof rdfPass>>('rdf', spec);
     if (opts.csv) checkOutputPrefix(opts.csv, '--csv');
     const run = await runOnTrajectory(file, opts, [pass], warnings, cc);
-    const results = finishPasses([pass], run.partials, run.ctx).rdf as RdfResult;
+    const results = pass.finish(run.partials[0] as RdfPartial, run.ctx);
     if (opts.csv) {
       const names = await writeRdfCsv(opts.csv, results, [file]);
       if (!opts.json && !opts.quiet) process.stderr.write(`sojourn: wrote ${names.join(', ')}\n`);

@@ -17,6 +17,7 @@
  * species) and of the VACF; the first read also keeps the collective sums Σq r and Σq v per frame
  * for the conductivity. The analyses finish from the totals, as from one read.
  */
+import type { RecipePass } from '../engine/recipes.js';
 import type { CommandContext } from './common.js';
 import * as path from 'node:path';
 import { Option, type Command } from 'commander';
@@ -346,7 +347,7 @@ export function register(program: Command, cc: CommandContext): void {
       let finishers: TransportFinishers;
       let memoryNote: string | null = null;
       if (plan) {
-        const streaming = [overviewP, framewiseP, rdf, ...shellPasses] as Pass[];
+        const streaming = [overviewP, framewiseP, rdf, ...shellPasses] as RecipePass[];
         const b = await batchedReport(file, opts, cc, plan, layoutSpec, rules, streaming, warnings);
         run = b.first;
         ctx = b.ctx;
@@ -356,7 +357,7 @@ export function register(program: Command, cc: CommandContext): void {
         memoryNote = b.note;
       } else {
         const store = makePass('species-store', { layout: {}, removeDrift: true, keepVelocities: true });
-        const passes: Pass[] = [overviewP, framewiseP, store, rdf, ...shellPasses] as Pass[];
+        const passes: RecipePass[] = [overviewP, framewiseP, store, rdf, ...shellPasses] as RecipePass[];
         run = await runOnTrajectory(file, opts, passes, warnings, cc);
         ctx = run.ctx;
         storeP = run.partials[2] as StorePartial;
@@ -365,8 +366,8 @@ export function register(program: Command, cc: CommandContext): void {
       }
       const topology = ctx.topology;
       const skipped: Record<string, string> = {};
-      const overview = overviewPass.finish(streamed[0] as never, ctx) as OverviewResult;
-      const framewise = framewiseObservables.finish(streamed[1] as never, ctx) as FramewiseResult;
+      const overview = overviewP.finish(streamed[0] as never, ctx);
+      const framewise = framewiseP.finish(streamed[1] as never, ctx);
 
       // Structure.
       let structure: ReportData['structure'] = null;
@@ -375,7 +376,7 @@ export function register(program: Command, cc: CommandContext): void {
       else if (rdfOut) structure = rdfOut;
       const shellResults: ReportData['shells'] = [];
       shellPasses.forEach((p, i) => {
-        const r = attempt(`shell ${shells[i].text}`, skipped, () => p.finish(streamed[3 + i] as never, ctx) as ShellResult);
+        const r = attempt(`shell ${shells[i].text}`, skipped, () => p.finish(streamed[3 + i] as never, ctx));
         if (r) shellResults.push({ text: shells[i].text, result: r });
       });
 
@@ -415,7 +416,7 @@ export function register(program: Command, cc: CommandContext): void {
             let shared: MsdResult | undefined;
             if (msd && cl.sameGroups) {
               const groups = cl.groups.map((g) => msd!.groups.find((m) => m.label === g.label));
-              if (groups.every((g) => g !== undefined)) shared = { ...msd, groups: groups as MsdResult['groups'] };
+              if (groups.every((g): g is MsdResult['groups'][number] => g !== undefined)) shared = { ...msd, groups };
             }
             conductivity = attempt('conductivity', skipped, () => finishers.conductivity(cl, shared, temperatureK));
           }

@@ -2,6 +2,8 @@
  * `sojourn viscosity TABLE`: shear viscosity from a pressure-tensor time series by Green–Kubo
  * (time decomposition, Daivis–Evans component averaging) with an Einstein–Helfand cross-check.
  */
+import { makePass } from '../../analyses/index.js';
+import type { OverviewPartial } from '../../analyses/overview.js';
 import { readingContext, type CommandContext } from './common.js';
 import { Option, type Command } from 'commander';
 import { readTable, type TableData } from '../../readers/index.js';
@@ -93,8 +95,9 @@ function stressColumns(table: TableData, map: Map<TensorKey, string>): StressCol
 
 /** Mean cell volume (Å³) of a trajectory, through the overview pass. */
 async function volumeFromTrajectory(file: string, warnings: string[], quiet?: boolean): Promise<{ volume: number; input: InputRecord; varies: boolean }> {
-  const run = await runOnTrajectory(file, { quiet, threads: '1' }, [overviewPass], warnings, readingContext([]));
-  const ov = finishPasses([overviewPass], run.partials, run.ctx).overview as OverviewResult;
+  const pass = makePass<typeof overviewPass>('overview');
+  const run = await runOnTrajectory(file, { quiet, threads: '1' }, [pass], warnings, readingContext([]));
+  const ov = pass.finish(run.partials[0] as OverviewPartial, run.ctx);
   if (!ov.meanVolume) throw new UsageError(`--cell-from ${file}: the trajectory has no periodic cell; give --volume instead`);
   return { volume: ov.meanVolume.value, input: run.input, varies: ov.cellVaries };
 }
