@@ -9,7 +9,7 @@ import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } f
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
-import { checkOutputPrefix, formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputPrefix, formatQuantity, formatSig, formatTable, stageFileSet, toCsv } from '../output.js';
 import { CAUTION } from '../caution.js';
 
 interface ShellOptions extends TrajectoryOptions {
@@ -79,10 +79,7 @@ export function register(program: Command): void {
         [`${opts.csv}-survival.csv`, toCsv(['time_ps', 'survival'], [results.survival.time, results.survival.value])],
         [`${opts.csv}-counts.csv`, toCsv(['neighbours', 'fraction'], [results.counts.values, results.counts.fractions])],
       ];
-      for (const [name, text] of files) {
-        refuseOverwritingInputs(name, [file]);
-        await writeFileAtomic(name, text);
-      }
+      await stageFileSet(files, [file]);
       if (!opts.json && !opts.quiet) process.stderr.write(`sojourn: wrote ${files.map((f) => f[0]).join(', ')}\n`);
     }
     emit('shell', opts, [run.input], { ...opts }, results, warnings, () => renderShell(file, results));

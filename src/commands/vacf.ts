@@ -30,7 +30,7 @@ import {
 } from './msd.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type FirstFrameInfo, type SiteBatchPlan } from './batching.js';
 import { finishPasses } from '../runner.js';
-import { checkOutputFile, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputFile, formatSig, formatTable, stageFileSet, toCsv } from '../output.js';
 import type { Topology } from '../types.js';
 import { CAUTION } from '../caution.js';
 
@@ -167,8 +167,10 @@ export function register(program: Command): void {
       run = await runOnTrajectory(file, opts, [pass], warnings);
       results = finishPasses([pass], run.partials, run.ctx).vacf as VacfResult;
     }
-    if (opts.csv) await writeFileAtomic(opts.csv, vacfCsv(results));
-    if (opts.spectrumCsv) await writeFileAtomic(opts.spectrumCsv, spectrumCsv(results));
+    const csvs: Array<[string, string]> = [];
+    if (opts.csv) csvs.push([opts.csv, vacfCsv(results)]);
+    if (opts.spectrumCsv) csvs.push([opts.spectrumCsv, spectrumCsv(results)]);
+    await stageFileSet(csvs, [file]); // both appear together when the command succeeds
     emit('vacf', opts, [run.input], { ...opts }, results, warnings, () => renderVacf(file, results));
   });
 }
