@@ -33,7 +33,8 @@ export async function main(argv: string[]): Promise<number> {
   const program = buildProgram(readingContext(argv.slice(2)));
   try {
     await program.parseAsync(argv);
-    // Outputs staged during the run (--partial-out) appear only now that the command succeeded.
+    // Outputs staged during the run (--partial-out, CSV files) appear only now that the command
+    // succeeded, all together or none.
     await commitStagedFiles();
     return 0;
   } catch (err) {

@@ -2,7 +2,7 @@
  * Output helpers: the JSON envelope every command prints with --json, atomic file writes,
  * number formatting with uncertainties, and aligned text tables.
  */
-import { promises as fsp, realpathSync, existsSync, statSync, rmSync } from 'node:fs';
+import { promises as fsp, realpathSync, existsSync, statSync, rmSync, lstatSync, readdirSync, unlinkSync, linkSync, copyFileSync, renameSync, constants as fsConstants } from 'node:fs';
 import * as path from 'node:path';
 import { randomBytes } from 'node:crypto';
 import { UsageError } from './errors.js';
@@ -88,9 +88,11 @@ export class OutputWriteError extends Error {
  * to the disk (fsync), and the temporary file is renamed over the target only when complete
  * (rename(2) replaces a name atomically, POSIX.1-2017), so a reader — or a later look after the
  * process was killed — sees either the old file or the whole new one, never a part. On failure
- * the temporary file is removed and an OutputWriteError is thrown.
+ * the temporary file is removed and an OutputWriteError is thrown. Temporary siblings of the
+ * target left by a killed run are dealt with first (see sweepStaleFileSiblings).
  */
 export async function writeFileAtomic(target: string, data: string | Uint8Array): Promise<void> {
+  sweepStaleFileSiblings(target);
   const tmp = siblingPath(target);
   await writeSibling(tmp, target, data);
   try {
@@ -107,6 +109,83 @@ function siblingPath(target: string): string {
   return path.join(dir, `.${path.basename(target)}.tmp-${process.pid}-${randomBytes(4).toString('hex')}`);
 }
 
+/** A regular expression source matching `text` literally. */
+export function escapeRegExp(text: string): string {
+  return text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+}
+
+/**
+ * Whether a process with this id exists now: kill(pid, 0) sends no signal but checks the id
+ * (POSIX.1-2017, kill(): ESRCH when there is no such process, EPERM when it exists but belongs
+ * to someone else). Ids that are not positive whole numbers count as existing, so that nothing
+ * is removed on their account.
+ */
+export function processExists(pid: number): boolean {
+  if (!Number.isSafeInteger(pid) || pid <= 0) return true;
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (e) {
+    return (e as NodeJS.ErrnoException).code !== 'ESRCH';
+  }
+}
+
+/** Print a note about the file system on stderr at once (also with --json and --quiet). */
+export function fileSystemWarning(message: string): void {
+  process.stderr.write(`sojourn: warning: ${message}\n`);
+}
+
+/**
+ * Temporary siblings of the output file `target` left by an earlier run that was killed
+ * (SIGKILL, power loss): files named `.<name>.tmp-<pid>-<8 hex digits>` in its folder, the exact
+ * pattern of siblingPath. Each is named on stderr; it is removed when process <pid> no longer
+ * exists (see processExists) and left alone otherwise. Temporary files this process has staged
+ * itself are skipped. Failures here never stop the command.
+ */
+function sweepStaleFileSiblings(target: string): void {
+  const abs = path.resolve(target);
+  const dir = path.dirname(abs);
+  const pattern = new RegExp(`^\\.${escapeRegExp(path.basename(abs))}\\.tmp-(\\d+)-[0-9a-f]{8}$`);
+  let names: string[];
+  try {
+    names = readdirSync(dir);
+  } catch {
+    return;
+  }
+  const ours = new Set([...staged.values()].map((s) => s.tmp));
+  for (const name of names) {
+    const m = pattern.exec(name);
+    if (!m) continue;
+    const p = path.join(dir, name);
+    if (ours.has(p)) continue;
+    const pid = Number(m[1]);
+    try {
+      if (!lstatSync(p).isFile()) continue;
+      if (processExists(pid)) {
+        fileSystemWarning(`${p} is a temporary file of process ${pid}, which is still running; left alone`);
+        continue;
+      }
+      unlinkSync(p);
+      fileSystemWarning(`removed ${p}, a temporary file left by an earlier run (process ${pid}, which no longer exists)`);
+    } catch (e) {
+      fileSystemWarning(`could not remove ${p}, a temporary file left by an earlier run: ${(e as Error).message}`);
+    }
+  }
+}
+
+/** See injectWriteFault. */
+let writeFault: ((target: string) => NodeJS.ErrnoException | null) | null = null;
+
+/**
+ * For tests only (the program never calls it): from now on, a file write whose target `fault`
+ * maps to an error writes the first half of its data and then fails with that error, as a full
+ * disk does midway (e.g. an error with code ENOSPC). `null` ends it. Covers stageFile,
+ * stageFileSet and writeFileAtomic.
+ */
+export function injectWriteFault(fault: ((target: string) => NodeJS.ErrnoException | null) | null): void {
+  writeFault = fault;
+}
+
 /**
  * Write `data` to the new file `tmp` (see siblingPath), synced to disk. Nothing is left behind
  * when the write fails; errors name `target`.
@@ -115,6 +194,12 @@ async function writeSibling(tmp: string, target: string, data: string | Uint8Arr
   try {
     const fh = await fsp.open(tmp, 'wx');
     try {
+      const fault = writeFault ? writeFault(target) : null;
+      if (fault) {
+        const bytes = typeof data === 'string' ? Buffer.from(data) : data;
+        await fh.writeFile(bytes.subarray(0, bytes.length >> 1));
+        throw fault;
+      }
       await fh.writeFile(data);
       await fh.sync();
     } finally {
@@ -137,6 +222,7 @@ const staged = new Map<string, { tmp: string; release: () => void }>();
  * and the data need not be held in memory until then.
  */
 export async function stageFile(target: string, data: string | Uint8Array): Promise<void> {
+  sweepStaleFileSiblings(target);
   // The name is fixed before writing, so that an interrupt during a long write removes the file.
   const tmp = siblingPath(target);
   const release = cleanupOnAbort(() => rmSync(tmp, { force: true }));
@@ -154,28 +240,107 @@ export async function stageFile(target: string, data: string | Uint8Array): Prom
   staged.set(target, { tmp, release });
 }
 
-/** Rename every staged file onto its target (see stageFile). */
+/**
+ * Stage a set of output files that belong together (all CSV files of one command): each is
+ * written now under a temporary name (see stageFile), and they appear together when src/cli.ts
+ * commits at the successful end of the command (commitStagedFiles), or none does. The names are
+ * checked first: none may be an input (refuseOverwritingInputs), and two files of the same name
+ * must have the same content (a usage error otherwise: one would silently replace the other).
+ * If one write fails (a full disk), the files this call staged are removed and the
+ * OutputWriteError is re-thrown. Returns the names.
+ */
+export async function stageFileSet(files: ReadonlyArray<readonly [string, string | Uint8Array]>, inputs: readonly string[] = []): Promise<string[]> {
+  const unique = new Map<string, readonly [string, string | Uint8Array]>();
+  for (const f of files) {
+    refuseOverwritingInputs(f[0], [...inputs]);
+    const key = path.resolve(f[0]);
+    const twin = unique.get(key);
+    if (twin && Buffer.compare(Buffer.from(twin[1]), Buffer.from(f[1])) !== 0) {
+      throw new UsageError(`two different outputs of this command would both be named ${f[0]}; refusing to let one replace the other`);
+    }
+    if (!twin) unique.set(key, f);
+  }
+  const names = [...unique.values()].map(([name]) => name);
+  try {
+    for (const [name, data] of unique.values()) await stageFile(name, data);
+  } catch (e) {
+    for (const name of names) unstage(name);
+    throw e;
+  }
+  return names;
+}
+
+/** Forget a staged file and remove its temporary file (no-op when `target` is not staged). */
+function unstage(target: string): void {
+  const s = staged.get(target);
+  if (!s) return;
+  staged.delete(target);
+  rmSync(s.tmp, { force: true });
+  s.release();
+}
+
+/**
+ * Rename every staged file onto its target (see stageFile), as one set: when one rename fails,
+ * the targets already renamed are put back as they were (a previous file at a target is kept
+ * under a temporary hard link — or copy — until the set is complete) and every temporary file is
+ * removed, so either all staged files appear or none does. The renames run synchronously, so no
+ * SIGINT/SIGTERM handler (src/abort.ts) can run between them.
+ */
 export async function commitStagedFiles(): Promise<void> {
-  for (const [target, s] of staged) {
-    staged.delete(target);
-    try {
-      await fsp.rename(s.tmp, target);
-    } catch (e) {
+  const entries = [...staged];
+  staged.clear();
+  const done: Array<{ target: string; backup: string | null }> = [];
+  try {
+    for (const [target, s] of entries) {
+      let backup: string | null = null;
+      try {
+        if (existsOrLink(target)) {
+          backup = siblingPath(target);
+          try {
+            linkSync(target, backup);
+          } catch {
+            copyFileSync(target, backup, fsConstants.COPYFILE_EXCL);
+          }
+        }
+        renameSync(s.tmp, target);
+      } catch (e) {
+        if (backup) rmSync(backup, { force: true });
+        throw new OutputWriteError(target, e);
+      }
+      done.push({ target, backup });
+    }
+  } catch (e) {
+    for (const d of done.reverse()) {
+      try {
+        if (d.backup) renameSync(d.backup, d.target);
+        else rmSync(d.target, { force: true });
+      } catch (e2) {
+        fileSystemWarning(`could not put ${d.target} back as it was${d.backup ? ` (its previous content is in ${d.backup})` : ''}: ${(e2 as Error).message}`);
+      }
+    }
+    for (const [, s] of entries) {
       rmSync(s.tmp, { force: true });
-      throw new OutputWriteError(target, e);
-    } finally {
       s.release();
     }
+    throw e;
+  }
+  for (const d of done) if (d.backup) rmSync(d.backup, { force: true });
+  for (const [, s] of entries) s.release();
+}
+
+/** Whether anything (a file, folder or link, even a dangling one) has this name. */
+function existsOrLink(p: string): boolean {
+  try {
+    lstatSync(p);
+    return true;
+  } catch {
+    return false;
   }
 }
 
 /** Remove every staged file without writing its target (see stageFile). */
 export function discardStagedFiles(): void {
-  for (const [target, s] of staged) {
-    staged.delete(target);
-    rmSync(s.tmp, { force: true });
-    s.release();
-  }
+  for (const target of [...staged.keys()]) unstage(target);
 }
 
 /**

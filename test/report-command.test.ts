@@ -172,8 +172,13 @@ describe('sojourn report on generated inputs', () => {
     }
   });
 
-  it('holds exactly the files it lists, each SVG with axes, labels and one point per CSV row', () => {
-    expect(readdirSync(out).sort()).toEqual([...doc.results.files].sort());
+  it('holds exactly the files it lists (and the manifest listing them with their SHA-256), each SVG with axes, labels and one point per CSV row', () => {
+    const manifestName = '.sojourn-manifest.json';
+    expect(readdirSync(out).sort()).toEqual([...doc.results.files, manifestName].sort());
+    const manifest = JSON.parse(readFileSync(join(out, manifestName), 'utf8'));
+    expect(manifest.tool).toBe('sojourn');
+    expect(manifest.files.map((f: any) => f.name).sort()).toEqual([...doc.results.files].sort());
+    for (const f of manifest.files) expect(f.sha256, f.name).toBe(createHash('sha256').update(readFileSync(join(out, f.name))).digest('hex'));
     expect(doc.results.figures.length).toBeGreaterThanOrEqual(15);
     for (const fig of doc.results.figures) {
       const svg = readFileSync(join(out, fig.svg), 'utf8');
@@ -294,12 +299,13 @@ describe('interrupted reports leave nothing that looks finished', () => {
   });
 
   /** Start a report on the big input; once its staging directory exists (it is reading), send `signal`. */
-  async function interrupt(signal: NodeJS.Signals, name: string): Promise<{ code: number | null; signal: NodeJS.Signals | null; leftovers: string[]; out: string }> {
-    const out = join(dir, name);
+  async function interrupt(signal: NodeJS.Signals, name: string, parents: string[] = []): Promise<{ code: number | null; signal: NodeJS.Signals | null; leftovers: string[]; out: string }> {
+    const parent = join(dir, ...parents);
+    const out = join(parent, name);
     const child = spawn(process.execPath, [CLI, 'report', big, '--temperature', '300K', '--charges', 'Na=+1,Cl=-1', '--masses', 'W=18', '--threads', '1', '--out', out], { stdio: 'ignore' });
     let exited = false;
     const done = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((res) => child.on('exit', (code, sig) => { exited = true; res({ code, signal: sig }); }));
-    const staging = () => readdirSync(dir).filter((n) => n.startsWith(`${name}.tmp-`));
+    const staging = () => (existsSync(parent) ? readdirSync(parent).filter((n) => n.startsWith(`${name}.tmp-`)) : []);
     const t0 = Date.now();
     while (staging().length === 0 && !exited && Date.now() - t0 < 30_000) await new Promise((r) => setTimeout(r, 20));
     await new Promise((r) => setTimeout(r, 300));
@@ -315,6 +321,12 @@ describe('interrupted reports leave nothing that looks finished', () => {
     expect(r.signal === 'SIGTERM' || r.code === 143).toBe(true);
     expect(existsSync(r.out)).toBe(false);
     expect(r.leftovers).toEqual([]);
+  });
+
+  it('SIGTERM with --out into folders the run created: those folders are removed too', async () => {
+    const r = await interrupt('SIGTERM', 'term', ['made', 'by', 'run']);
+    expect(r.signal === 'SIGTERM' || r.code === 143).toBe(true);
+    expect(existsSync(join(dir, 'made'))).toBe(false);
   });
 
   it('SIGKILL (cannot be caught): no report directory; at most a staging directory without results.json or report.html', async () => {

@@ -26,7 +26,7 @@ import {
   yehHummerJoin,
   ALL_PAIRS_MAX_LABELS,
 } from '../src/report/build.js';
-import { inspectReportTarget, stageDirectory, writeReportDirectory } from '../src/report/write.js';
+import { MANIFEST, inspectReportTarget, stageDirectory, writeReportDirectory } from '../src/report/write.js';
 import { selectAtoms } from '../src/selection.js';
 import { speciesLayout } from '../analyses/msd.js';
 import { crystalRadius } from '../src/radii.js';
@@ -330,7 +330,7 @@ describe('atomic report directory', () => {
   it('creates a new directory and leaves no temporary sibling', async () => {
     const target = join(root, 'new', 'report');
     await writeReportDirectory(target, [{ name: 'results.json', data: '{"tool":"sojourn"}' }, { name: 'a.csv', data: 'x\n1\n' }]);
-    expect(readdirSync(target).sort()).toEqual(['a.csv', 'results.json']);
+    expect(readdirSync(target).sort()).toEqual([MANIFEST, 'a.csv', 'results.json']);
     expect(siblings(join(root, 'new'), 'report')).toEqual([]);
   });
 
@@ -339,7 +339,7 @@ describe('atomic report directory', () => {
     await writeReportDirectory(target, [{ name: 'results.json', data: '{"tool":"sojourn","n":1}' }, { name: 'old.svg', data: '<svg/>' }]);
     expect(inspectReportTarget(target)).toBe('previous-report');
     await writeReportDirectory(target, [{ name: 'results.json', data: '{"tool":"sojourn","n":2}' }]);
-    expect(readdirSync(target)).toEqual(['results.json']);
+    expect(readdirSync(target).sort()).toEqual([MANIFEST, 'results.json']);
     expect(JSON.parse(readFileSync(join(target, 'results.json'), 'utf8')).n).toBe(2);
     expect(siblings(root, 'again')).toEqual([]);
   });

@@ -9,7 +9,7 @@ import { Option, type Command } from 'commander';
 import type { AnyAnalysis, TrajectoryAnalysis } from '../engine/analysis.js';
 import { flagName, readOptionValues, SHARED, type OptionSpec } from '../engine/options.js';
 import { withRecipe } from '../engine/recipes.js';
-import { checkOutputFile, checkOutputPrefix, refuseOverwritingInputs, writeFileAtomic } from '../output.js';
+import { checkOutputFile, checkOutputPrefix, stageFileSet } from '../output.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type CommandContext, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches } from './batching.js';
 import type { Warnings } from '../types.js';
@@ -48,10 +48,8 @@ export function registerAnalysis(program: Command, cc: CommandContext, d: AnyAna
       const target = targets.get(out.option);
       return target === undefined ? [] : out.write(result, options).map(([suffix, text]) => [target + suffix, text] as [string, string]);
     });
-    for (const [name, text] of files) {
-      refuseOverwritingInputs(name, [file]);
-      await writeFileAtomic(name, text);
-    }
+    // All files of the command appear together when it succeeds (src/cli.ts commits them), or none.
+    await stageFileSet(files, [file]);
     if (files.length > 0 && !raw.json && !raw.quiet) process.stderr.write(`sojourn: wrote ${files.map((f) => f[0]).join(', ')}\n`);
     emit(d.name, raw, [run.input], { ...raw }, result, warnings, () => d.render(file, result, options));
   });

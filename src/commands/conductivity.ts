@@ -26,7 +26,7 @@ import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
 import { parseSelection } from '../selection.js';
-import { checkOutputFile, formatQuantity, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputFile, formatQuantity, formatSig, formatTable, stageFileSet, toCsv } from '../output.js';
 import type { Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 
@@ -171,7 +171,7 @@ export function register(program: Command, cc: CommandContext): void {
       run = await runOnTrajectory(file, opts, [pass], warnings, cc);
       results = pass.finish(run.partials[0] as StorePartial, run.ctx);
     }
-    if (opts.csv) await writeFileAtomic(opts.csv, conductivityCsv(results));
+    if (opts.csv) await stageFileSet([[opts.csv, conductivityCsv(results)]], [file]);
     emit('conductivity', opts, [run.input], { ...opts }, results, warnings, () => renderConductivity(file, results));
   });
 }

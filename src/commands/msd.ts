@@ -35,7 +35,7 @@ import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } f
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
-import { checkOutputFile, formatQuantity, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputFile, formatQuantity, formatSig, formatTable, stageFileSet, toCsv } from '../output.js';
 import type { Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE, DEFAULT_SEGMENTS, DEFAULT_SLOPE_TOLERANCE } from '../fit.js';
@@ -267,7 +267,7 @@ export function register(program: Command, cc: CommandContext): void {
       run = await runOnTrajectory(file, opts, [pass], warnings, cc);
       results = pass.finish(run.partials[0] as StorePartial, run.ctx);
     }
-    if (opts.csv) await writeFileAtomic(opts.csv, msdCsv(results));
+    if (opts.csv) await stageFileSet([[opts.csv, msdCsv(results)]], [file]);
     emit('msd', opts, [run.input], { ...opts }, results, warnings, () => renderMsd(file, results));
   });
 }

@@ -14,7 +14,7 @@ import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } f
 import { finishPasses } from '../runner.js';
 import { parseQuantity } from '../units.js';
 import { UsageError } from '../errors.js';
-import { checkOutputPrefix, formatQuantity, formatSig, formatTable, refuseOverwritingInputs, toCsv, writeFileAtomic } from '../output.js';
+import { checkOutputPrefix, formatQuantity, formatSig, formatTable, stageFileSet, toCsv } from '../output.js';
 import { CAUTION } from '../caution.js';
 import { AVOGADRO } from '../units.js';
 
@@ -155,9 +155,9 @@ export function renderRdf(file: string, r: RdfResult): string {
   return out.join('\n');
 }
 
-/** CSV files for --csv PREFIX; returns their names. */
+/** CSV files for --csv PREFIX, staged as one set (they appear when the command succeeds); returns their names. */
 export async function writeRdfCsv(prefix: string, r: RdfResult, inputs: string[]): Promise<string[]> {
-  const written: string[] = [];
+  const all: Array<[string, string]> = [];
   for (const p of r.pairs) {
     const base = `${prefix}-${safeName(p.a)}-${safeName(p.b)}`;
     const files: Array<[string, string]> = [
@@ -171,13 +171,9 @@ export async function writeRdfCsv(prefix: string, r: RdfResult, inputs: string[]
       const k = p.kirkwoodBuff;
       files.push([`${base}-kb.csv`, toCsv(['R_A', 'G_running_A3', 'G_finite_volume_A3'], [k.r, k.running, k.finiteVolume])]);
     }
-    for (const [name, text] of files) {
-      refuseOverwritingInputs(name, inputs);
-      await writeFileAtomic(name, text);
-      written.push(name);
-    }
+    all.push(...files);
   }
-  return written;
+  return stageFileSet(all, inputs);
 }
 
 function collect(value: string, previous: string[] | undefined): string[] {

@@ -20,7 +20,7 @@ import { uniformStep } from './converge.js';
 import { finishPasses } from '../runner.js';
 import { parseQuantity, UNIT_FACTORS } from '../units.js';
 import { UsageError, InputError } from '../errors.js';
-import { checkOutputFile, formatQuantity, formatSig, formatTable, toCsv, writeFileAtomic, type InputRecord } from '../output.js';
+import { checkOutputFile, formatQuantity, formatSig, formatTable, stageFileSet, toCsv, type InputRecord } from '../output.js';
 import { quantity, type Quantity } from '../types.js';
 import { CAUTION } from '../caution.js';
 
@@ -217,7 +217,7 @@ export function register(program: Command, cc: CommandContext): void {
     const analysis = analyseViscosity({ components, dt, volumeA3, temperatureK, pascalPerUnit, segments });
     const r = analysis.result;
     if (!r.converged) warnings.push(`viscosity not converged: ${r.reasons.join('; ')}`);
-    if (opts.csv) await writeFileAtomic(opts.csv, viscosityCsv(analysis));
+    if (opts.csv) await stageFileSet([[opts.csv, viscosityCsv(analysis)]], [file, ...(opts.cellFrom ? [opts.cellFrom] : [])]);
     const results = {
       ...r,
       temperature: quantity(temperatureK, null, 'K'),
