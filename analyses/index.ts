@@ -8,6 +8,7 @@ import { passFromRecipe, type PassFactory, type PassRecipe } from '../src/engine
 import { overviewPass } from './overview.js';
 import { framewiseObservables } from './framewise.js';
 import { rdfPass } from './rdf.js';
+import { rdfAnalysis } from './rdf-analysis.js';
 import { reportRdfPass } from './rdf-auto.js';
 import { shellAnalysis } from './shell.js';
 import { vacfAnalysis } from './vacf.js';
@@ -16,14 +17,13 @@ import { conductivityPass } from './conductivity.js';
 import { speciesStorePass } from './msd.js';
 
 /** The analyses that are commands of their own (src/cli builds one command per entry). */
-export const ANALYSES: readonly AnyAnalysis[] = [shellAnalysis, vacfAnalysis];
+export const ANALYSES: readonly AnyAnalysis[] = [rdfAnalysis, shellAnalysis, vacfAnalysis];
 
 /** Pass factories by recipe kind: each analysis's own pass under its name, and shared passes. */
 export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
   ...Object.fromEntries(ANALYSES.map((a) => [a.name, (o: unknown) => a.pass(o)])),
   overview: () => overviewPass,
   framewise: () => framewiseObservables,
-  rdf: rdfPass,
   'rdf-auto': reportRdfPass,
   msd: msdPass,
   conductivity: conductivityPass,

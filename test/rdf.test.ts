@@ -7,7 +7,7 @@ import {
   findFirstShell, automaticBlockCount, groupContiguous, resolveBins, type RdfSpec, type RdfPartial, type RdfResult,
 } from '../analyses/rdf.js';
 import { PairHistogram, cellGrid, planSearch, forEachPairWithin, RND, lowerTriangular } from '../src/neighbors.js';
-import { parsePairOption, parseWavenumber, safeName } from '../src/commands/rdf.js';
+import { parsePairOption, parseWavenumber, safeName } from '../analyses/rdf-analysis.js';
 import { CellGeometry, orthorhombicCell, cellFromParameters } from '../src/cell.js';
 import { Random } from '../src/random.js';
 import { UsageError } from '../src/errors.js';

@@ -98,6 +98,7 @@ function expectClose(actual: unknown, expected: unknown, path = 'result'): void 
 
 /** Command-line option texts for each registered analysis on the frames above. */
 const CASES: Record<string, Record<string, unknown>> = {
+  rdf: { pair: ['Na:Cl', 'W:W'], blocks: '3', binWidth: '0.2A' },
   shell: { center: 'Na', around: 'W', cutoff: '4A', tolerance: '0.1ps', segments: '3' },
   vacf: { segments: '3' },
 };

@@ -7,7 +7,6 @@ import type { CommandContext } from './common.js';
 import { register as inspect } from './inspect.js';
 import { register as merge } from './merge.js';
 import { register as converge } from './converge.js';
-import { register as rdf } from './rdf.js';
 import { register as viscosity } from './viscosity.js';
 import { register as stokes } from './stokes.js';
 import { register as msd } from './msd.js';
@@ -26,7 +25,6 @@ export const COMMANDS: Array<(program: Command, cc: CommandContext) => void> = [
   inspect,
   merge,
   converge,
-  rdf,
   viscosity,
   stokes,
   msd,
