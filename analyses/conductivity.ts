@@ -43,7 +43,8 @@ import { UsageError } from '../src/errors.js';
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } from '../src/units.js';
 import { nernstEinsteinConductivity, nernstEinsteinUncertainty, relativeErrorProduct } from '../src/transport.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
-import { correlationSamplingProblem, cumulativeTrapezoid, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
+import { correlationSamplingProblem, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
   StoreView,
   analyseMsd,

@@ -41,7 +41,6 @@ import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
 import {
   blockStatistics,
   correlationSamplingProblem,
-  cumulativeTrapezoid,
   maxLagIndex,
   plateauDriftCheck,
   plateauWindow,
@@ -58,6 +57,7 @@ import {
   type LagWindow,
   type PlateauDrift,
 } from '../src/fit.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
   StoreView,
   gatherSeries,

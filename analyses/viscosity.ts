@@ -56,6 +56,7 @@
  */
 import { autocorrelation, nextPowerOfTwo } from '../src/correlate.js';
 import { fitLine, blockStatistics, correlationSamplingProblem } from '../src/fit.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { BOLTZMANN, CUBIC_ANGSTROM, PICOSECOND } from '../src/units.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
 import { quantity, type Quantity } from '../src/types.js';
@@ -101,21 +102,6 @@ export const MAX_REPORT_POINTS = 1000;
  */
 export function greenKuboPrefactor(volumeA3: number, temperatureK: number, pascalPerUnit: number): number {
   return ((volumeA3 * CUBIC_ANGSTROM) / (BOLTZMANN * temperatureK)) * pascalPerUnit * pascalPerUnit * PICOSECOND;
-}
-
-/**
- * Cumulative trapezoid integral I_k = Σ_{j<k} (y_j + y_{j+1})/2 · dt, I_0 = 0, times `scale`
- * (Press et al., Numerical Recipes, 3rd ed. (2007), §4.1). Writes into `out` when given.
- */
-export function runningIntegral(y: ArrayLike<number>, dt: number, scale = 1, out?: Float64Array): Float64Array {
-  const r = out ?? new Float64Array(y.length);
-  let s = 0;
-  if (y.length > 0) r[0] = 0;
-  for (let k = 1; k < y.length; k++) {
-    s += 0.5 * (y[k - 1] + y[k]) * dt;
-    r[k] = s * scale;
-  }
-  return r;
 }
 
 /**
@@ -941,7 +927,7 @@ export function unitRunningIntegral(values: Float64Array, s: number, m: number, 
   // transform layout: for long segments, blocks that stay in the CPU caches).
   const acf = autocorrelation(seg, { maxLag });
   const out = new Float64Array(maxLag + 1);
-  runningIntegral(acf, dt, pref, out);
+  cumulativeTrapezoid(acf, dt, pref, out);
   return out;
 }
 

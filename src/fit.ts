@@ -25,12 +25,14 @@
  *   from 5 segments on it is the plain standard error (`segmentUncertaintyFactor`).
  * - Sampling: a correlation function integrated by the trapezoid rule must not lose more than
  *   half of its value within one sample interval (`correlationSamplingProblem`); for an
- *   exponential decay the trapezoid integral is then at most 4 % too large (closed form below).
+ *   exponential decay the trapezoid integral is then at most 4 % too large (closed form in
+ *   src/numerics/trapezoid.ts).
  * - Plateau drift: after the plateau of a running integral is chosen, the integral over the lags
  *   after it (up to 3× the plateau end, inside a segment) must stay within the segment-based
  *   uncertainty of the change (`plateauDriftCheck`); otherwise "running integral keeps drifting".
  */
 import { UsageError } from './errors.js';
+import { trapezoidExponentialBias } from './numerics/trapezoid.js';
 
 /** Default tolerance on |d ln y/d ln t − 1| for the automatic diffusive window. */
 export const DEFAULT_SLOPE_TOLERANCE = 0.1;
@@ -612,31 +614,8 @@ export function windowMean(values: ArrayLike<number>, w: LagWindow): number {
   return s / (w.to - w.from + 1);
 }
 
-/**
- * Cumulative trapezoid integral: I(0) = 0, I(m) = I(m−1) + Δt·(y(m−1) + y(m))/2 (trapezoidal rule,
- * e.g. Press et al., Numerical Recipes, 3rd ed., §4.1).
- */
-export function cumulativeTrapezoid(y: ArrayLike<number>, dt: number): Float64Array {
-  const out = new Float64Array(y.length);
-  for (let m = 1; m < y.length; m++) out[m] = out[m - 1] + 0.5 * dt * (y[m - 1] + y[m]);
-  return out;
-}
-
 /** Smallest C(Δt)/C(0) of a correlation sampled every Δt that is integrated by the trapezoid rule without a flag. */
 export const CORRELATION_SAMPLING_RATIO = 0.5;
-
-/**
- * Relative overestimate of the trapezoid integral of an exponential decay C(t) = C(0)e^{−t/τ}
- * sampled every h, as a function of r = C(h)/C(0) = e^{−h/τ}: the trapezoid sum over all steps is
- * h(1/2 + r/(1 − r)) = (h/2)(1 + r)/(1 − r) against the exact τ = −h/ln r (geometric series), a
- * ratio x·coth(x) with x = −ln(r)/2 — the same for every step, hence for the whole integral.
- * Returns x·coth(x) − 1 (closed form; e.g. 1.5 ln 2 − 1 = 0.0397 at r = 0.5, 1.38 at r = 0.0094).
- */
-export function trapezoidExponentialBias(r: number): number {
-  if (!(r > 0 && r < 1)) return r === 1 ? 0 : NaN;
-  const x = -Math.log(r) / 2;
-  return x / Math.tanh(x) - 1;
-}
 
 /**
  * Whether a correlation function c (c[0] at lag 0, c[1] one sample interval `dt` ps later) is

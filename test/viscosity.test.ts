@@ -20,7 +20,6 @@ import {
   levenbergMarquardt,
   maxLagFor,
   plateauRise,
-  runningIntegral,
   shearComponents,
   type StressColumns,
 } from '../analyses/viscosity.js';
@@ -276,16 +275,6 @@ describe('Levenberg–Marquardt and the double-exponential fit', () => {
 });
 
 describe('small pieces', () => {
-  it('runningIntegral of e^{−t} is within the trapezoid error bound of 1 − e^{−t}', () => {
-    // Trapezoid rule error ≤ (b − a) h² max|f''| / 12 (Numerical Recipes §4.1) = 5 × 0.01² / 12.
-    const h = 0.01;
-    const y = Array.from({ length: 501 }, (_, k) => Math.exp(-k * h));
-    const I = runningIntegral(y, h);
-    const bound = (5 * h * h) / 12;
-    expect(Math.abs(I[500] - (1 - Math.exp(-5)))).toBeLessThan(bound);
-    expect(Math.abs(I[500] - (1 - Math.exp(-5)))).toBeGreaterThan(0); // the rule is not exact here
-  });
-
   it('integralCorrelationTime of a damped cosine equals the closed-form integral to its first zero', () => {
     // C = e^{−t/τ} cos ωt, τ = 1, ω = 2: first zero t₀ = π/(2ω); ∫₀^t₀ C dt
     // = [e^{−t/τ}(ω sin ωt − cos(ωt)/τ)]₀^t₀ / (1/τ² + ω²) = (ω e^{−t₀} + 1)/(1 + ω²) (closed form).

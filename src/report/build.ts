@@ -11,7 +11,8 @@
  * independent the derivation is written at the function. Every joined number lists its inputs
  * with the windows they came from.
  */
-import { CORRELATION_SAMPLING_RATIO, trapezoidExponentialBias } from '../fit.js';
+import { CORRELATION_SAMPLING_RATIO } from '../fit.js';
+import { trapezoidExponentialBias } from '../numerics/trapezoid.js';
 import type { Quantity } from '../types.js';
 import { quantity } from '../types.js';
 import { ANGSTROM } from '../units.js';
