@@ -36,7 +36,7 @@ import { CellGeometry } from '../src/cell.js';
 import { PairHistogram, type SearchMethod } from '../src/neighbors.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
-import { blockStatistics } from '../src/fit.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
 import { inefficiency } from './converge.js';
 import {
   structureFactor, structureFactorGrid, lennardJonesEnergy, lennardJonesPressure, kirkwoodBuffRunning, kirkwoodBuffFiniteVolume,

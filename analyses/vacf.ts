@@ -39,7 +39,6 @@ import { sumOfAutocorrelations, nextPowerOfTwo } from '../src/correlate.js';
 import { AnalysisError } from '../src/errors.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
 import {
-  blockStatistics,
   correlationSamplingProblem,
   maxLagIndex,
   plateauDriftCheck,
@@ -57,6 +56,7 @@ import {
   type LagWindow,
   type PlateauDrift,
 } from '../src/fit.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
 import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
   StoreView,

@@ -8,21 +8,16 @@ import {
   analyseViscosity,
   cutoffIndex,
   defaultSegmentCount,
-  doubleExponential,
-  doubleExponentialLimit,
   doubleExponentialProblem,
-  fitDoubleExponential,
-  fitSingleExponential,
-  fitPowerLaw,
   greenKuboPrefactor,
   helfandMsd,
   integralCorrelationTime,
-  levenbergMarquardt,
   maxLagFor,
   plateauRise,
   shearComponents,
   type StressColumns,
 } from '../analyses/viscosity.js';
+import { doubleExponential, fitDoubleExponential } from '../src/numerics/exponential-fits.js';
 import { pickStressColumns, tensorKeyOf } from '../src/commands/viscosity.js';
 import { ornsteinUhlenbeck, Random } from '../src/random.js';
 import { BOLTZMANN } from '../src/units.js';
@@ -186,46 +181,7 @@ describe('shearComponents: the Daivis–Evans traceless-tensor identity', () => 
   });
 });
 
-describe('Levenberg–Marquardt and the double-exponential fit', () => {
-  it('minimises the Rosenbrock function to its known minimum (1, 1)', () => {
-    // Rosenbrock, Comput. J. 3, 175 (1960): f = 100(y − x²)² + (1 − x)², minimum 0 at (1, 1),
-    // written as residuals r = [10(y − x²), 1 − x]; start at the classic (−1.2, 1).
-    const res = levenbergMarquardt((p, out) => { out[0] = 10 * (p[1] - p[0] * p[0]); out[1] = 1 - p[0]; }, 2, [-1.2, 1]);
-    expect(res.converged).toBe(true);
-    // Tolerance: the minimum is exact; stop criteria (xtol 1e-10) allow ~1e-8.
-    expect(Math.abs(res.params[0] - 1)).toBeLessThan(1e-6);
-    expect(Math.abs(res.params[1] - 1)).toBeLessThan(1e-6);
-  });
-
-  it('recovers the parameters of exact double-exponential data', () => {
-    // η(t) = Aατ₁(1 − e^{−t/τ₁}) + A(1 − α)τ₂(1 − e^{−t/τ₂}) (Zhang, Otani & Maginn, J. Chem.
-    // Theory Comput. 11, 3537 (2015)) with A = 2, α = 0.7, τ₁ = 0.1, τ₂ = 1.5, on t ∈ (0, 10],
-    // weights 1/t^0.5. Exact data have an exact least-squares solution.
-    const truth = { A: 2, alpha: 0.7, tau1: 0.1, tau2: 1.5 };
-    const t = Array.from({ length: 500 }, (_, i) => (i + 1) * 0.02);
-    const y = t.map((x) => doubleExponential(x, truth));
-    const f = fitDoubleExponential(t, y, t.map((x) => 1 / Math.sqrt(x)));
-    expect(f.converged).toBe(true);
-    // Tolerance: exact data, so only the optimiser's stopping criteria limit the match (1e-5).
-    expect(rel(f.A, 2)).toBeLessThan(1e-5);
-    expect(rel(f.alpha, 0.7)).toBeLessThan(1e-5);
-    expect(rel(f.tau1, 0.1)).toBeLessThan(1e-5);
-    expect(rel(f.tau2, 1.5)).toBeLessThan(1e-5);
-    // Long-time limit A(ατ₁ + (1 − α)τ₂) = 2 (0.07 + 0.45) = 1.04 (hand).
-    expect(rel(f.limit, 1.04)).toBeLessThan(1e-5);
-    expect(rel(doubleExponentialLimit(truth), 1.04)).toBeLessThan(1e-14);
-  });
-
-  it('a single exponential (τ₁ = τ₂) is recovered with the right limit', () => {
-    // y = 3 (1 − e^{−t/0.2}): limit 3 (closed form). The double exponential is degenerate here.
-    const t = Array.from({ length: 300 }, (_, i) => (i + 1) * 0.01);
-    const y = t.map((x) => 3 * -Math.expm1(-x / 0.2));
-    const f = fitDoubleExponential(t, y, t.map(() => 1));
-    // Tolerance: exact data; 1e-5 as above.
-    expect(rel(f.limit, 3)).toBeLessThan(1e-5);
-    expect(f.converged).toBe(true);
-  });
-
+describe('trust in the double-exponential fit', () => {
   it('a slow time beyond t_max/3 ends on the bound and is reported, not trusted', () => {
     // Data: the Zhang–Otani–Maginn form with A = 2, α = 0.8, τ₁ = 0.1, τ₂ = 8 on t ∈ (0, 6]:
     // τ₂ exceeds the bound t_max/3 = 2 (closed form of the generating parameters), so the fit
@@ -251,27 +207,6 @@ describe('Levenberg–Marquardt and the double-exponential fit', () => {
     expect(doubleExponentialProblem(ok)).toBeNull();
   });
 
-  it('the single-exponential fallback recovers a(1 − e^{−t/τ}) exactly', () => {
-    // y = 0.3 (1 − e^{−t/0.07}) on t ∈ (0, 3]: limit 0.3, τ = 0.07, initial slope 0.3/0.07 (the α = 1
-    // case of Zhang, Otani & Maginn 2015). Exact data: the profiled minimum is exact; tolerance
-    // 1e-6 (golden-section stop at 1e-12 in ln τ, flat cost near the minimum).
-    const t = Array.from({ length: 750 }, (_, i) => (i + 1) * 0.004);
-    const f = fitSingleExponential(t, t.map((x) => 0.3 * -Math.expm1(-x / 0.07)), t.map((x) => x ** -0.56));
-    expect(f.converged).toBe(true);
-    expect(rel(f.limit, 0.3)).toBeLessThan(1e-6);
-    expect(rel(f.tau1, 0.07)).toBeLessThan(1e-6);
-    expect(rel(f.A, 0.3 / 0.07)).toBeLessThan(1e-6);
-    expect(rel(doubleExponentialLimit(f), 0.3)).toBeLessThan(1e-6);
-  });
-
-  it('power law σ = A t^b from exact data', () => {
-    // σ(t) = 0.3 t^0.55 exactly: the log-log line fit is exact (Numerical Recipes §15.2).
-    const t = Array.from({ length: 100 }, (_, i) => (i + 1) * 0.05);
-    const p = fitPowerLaw(t, t.map((x) => 0.3 * x ** 0.55));
-    // Tolerance: rounding only.
-    expect(rel(p.A, 0.3)).toBeLessThan(1e-10);
-    expect(rel(p.b, 0.55)).toBeLessThan(1e-10);
-  });
 });
 
 describe('small pieces', () => {
