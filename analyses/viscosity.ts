@@ -59,13 +59,15 @@ import { correlationSamplingProblem } from '../src/fit.js';
 import { blockStatistics } from '../src/numerics/block-statistics.js';
 import {
   doubleExponential,
-  doubleExponentialLimit,
+  doubleExponentialRiseTime,
   fitDoubleExponential,
   fitSingleExponential,
   BOUND_MARGIN,
-  type DoubleExponential,
   type DoubleExponentialFit,
 } from '../src/numerics/exponential-fits.js';
+import { helfandMsd } from '../src/numerics/helfand-moment.js';
+import { integralCorrelationTime } from '../src/numerics/correlation-time.js';
+import { jackknifeStandardError } from '../src/numerics/jackknife.js';
 import { fitLine } from '../src/numerics/line-fit.js';
 import { fitPowerLaw } from '../src/numerics/power-law.js';
 import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
@@ -117,28 +119,6 @@ export function greenKuboPrefactor(volumeA3: number, temperatureK: number, pasca
 }
 
 /**
- * Integral correlation time of a correlation function C(k) on a grid of spacing dt:
- * τ = ∫₀^{t₀} C(t)/C(0) dt (trapezoid) up to the first zero crossing t₀ of C (common practice,
- * no source; for C = e^{−t/τ} plus noise it returns ≈ τ). `decayed` is false when C never
- * reaches zero within the array (τ is then a lower bound).
- */
-export function integralCorrelationTime(c: ArrayLike<number>, dt: number): { tau: number; decayed: boolean } {
-  const c0 = c[0];
-  if (!(c0 > 0)) return { tau: 0, decayed: true };
-  let s = 0;
-  for (let k = 1; k < c.length; k++) {
-    if (c[k] <= 0) {
-      // Linear interpolation to the crossing.
-      const f = c[k - 1] / (c[k - 1] - c[k]);
-      s += 0.5 * c[k - 1] * f * dt;
-      return { tau: s / c0, decayed: true };
-    }
-    s += 0.5 * (c[k - 1] + c[k]) * dt;
-  }
-  return { tau: s / c0, decayed: false };
-}
-
-/**
  * Default number of segments: N = min(10, ⌊n / (200 τ/dt)⌋), at least 3, so that each segment
  * spans ≥ 200 stress correlation times τ when the run allows (common practice, no source).
  */
@@ -187,54 +167,6 @@ export function doubleExponentialProblem(fit: DoubleExponentialFit): string | nu
     out.push(`the fast time τ₁ = ${fit.tau1.toPrecision(4)} ps sits at its lower bound t_min/2 = ${lower.toPrecision(4)} ps (set by the bound, not the data)`);
   }
   return out.length ? out.join('; ') : null;
-}
-
-// ---------------------------------------------------------------------------------------------
-// Helfand moment
-
-/** Work array for the Helfand moment G (reused: fresh memory is expensive to touch). */
-let helfandWork: Float64Array | null = null;
-
-/**
- * Mean-squared Helfand moment M(k) = ⟨(G_{i+k} − G_i)²⟩ over all origins i of one series, with
- * G_i = dt Σ_{j<i} x_j (i = 0 … n) (Helfand, Phys. Rev. 119, 1 (1960)). Uses
- * M(k) = [Σ_{i=0}^{L−1−k} (G_i² + G_{i+k}²)]/(L−k) − 2 C_GG(k), L = n + 1 (G centred first, which
- * leaves every difference unchanged), with C_GG the unbiased autocorrelation of G by FFT
- * (src/correlate.ts, which picks the cheapest transform layout for the lag range).
- * Units: x² · ps².
- */
-export function helfandMsd(x: Float64Array, dt: number, maxLag: number): Float64Array {
-  const L = x.length + 1;
-  if (!Number.isInteger(maxLag) || maxLag < 0 || maxLag > L - 1) throw new UsageError(`helfandMsd: maxLag ${maxLag} must be an integer in [0, ${L - 1}]`);
-  if (!helfandWork || helfandWork.length < L) helfandWork = new Float64Array(L);
-  const G = helfandWork.subarray(0, L);
-  let s = 0;
-  G[0] = 0;
-  for (let i = 0; i < x.length; i++) {
-    s += x[i] * dt;
-    G[i + 1] = s;
-  }
-  // ΔG is unchanged by a constant shift: centre G to keep S − 2C well conditioned.
-  let gm = 0;
-  for (let i = 0; i < L; i++) gm += G[i];
-  gm /= L;
-  for (let i = 0; i < L; i++) G[i] -= gm;
-  const cgg = autocorrelation(G, { maxLag });
-  // Σ_{i=0}^{L-1-k} G_i² = total − (sum of the last k squares); Σ_{i=k}^{L-1} G_i² = total − (first k).
-  let total = 0;
-  for (let i = 0; i < L; i++) total += G[i] * G[i];
-  const out = new Float64Array(maxLag + 1);
-  let first = 0;
-  let last = 0;
-  for (let k = 0; k <= maxLag; k++) {
-    if (k > 0) {
-      first += G[k - 1] * G[k - 1];
-      last += G[L - k] * G[L - k];
-    }
-    out[k] = Math.max(0, (total - last + (total - first)) / (L - k) - 2 * cgg[k]);
-  }
-  out[0] = 0;
-  return out;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -480,21 +412,27 @@ export function unitRunningIntegral(values: Float64Array, s: number, m: number, 
   return out;
 }
 
-/**
- * Viscosity by Green–Kubo with the time-decomposition method plus the Helfand cross-check (all
- * methods and rules in the module comment). Never returns a bare number: when a rule fails,
- * `converged` is false and `reasons` says why.
- */
-export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
-  const { components, dt } = input;
-  const plan = planViscosity(input);
-  const { n, nc, pref, fraction, tc, N, m, maxLag } = plan;
-  const { reasons, notes } = plan;
+/** The running integrals of every (segment, component) unit and their pooled statistics. */
+interface UnitStatistics {
+  /** Unit curves in single precision (for the jackknife and the plateau test), segment-major. */
+  unitCurves: Float32Array[];
+  /** Per component: Σ and Σ² over the segments of the running integral at each lag. */
+  compSum: Float64Array[];
+  compSq: Float64Array[];
+  /** η̄(t) over all units and σ(t), the spread of one segment's component-averaged curve. */
+  mean: Float64Array;
+  sigma: Float64Array;
+  time: Float64Array;
+}
 
-  // 3. Running integrals: one per (segment, component) "unit". In an isotropic fluid the
-  // components are equivalent and mutually uncorrelated (module comment), so the N·c unit
-  // curves are independent estimates of η(t); pooling them makes σ(t) far less noisy than the
-  // spread of only N segment averages. Unit curves are kept in single precision (jackknife).
+/**
+ * Step 3 of the analysis: running integrals, one per (segment, component) "unit". In an isotropic
+ * fluid the components are equivalent and mutually uncorrelated (module comment), so the N·c unit
+ * curves are independent estimates of η(t); pooling them makes σ(t) far less noisy than the
+ * spread of only N segment averages: σ(t) = SD_unit(t)/√c.
+ */
+function unitStatistics(components: ShearSeries[], plan: ViscosityPlan, dt: number): UnitStatistics {
+  const { nc, pref, N, m, maxLag } = plan;
   const L = maxLag + 1;
   const U = N * nc;
   const unitCurves: Float32Array[] = [];
@@ -529,7 +467,37 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   }
   const time = new Float64Array(L);
   for (let k = 0; k < L; k++) time[k] = k * dt;
+  return { unitCurves, compSum, compSq, mean, sigma, time };
+}
 
+/** The fitted running integral: model, long-time limit and its jackknife uncertainty. */
+interface RunningIntegralFit {
+  /** Cut-off index and whether σ(t) reached the cut-off fraction. */
+  kCut: number;
+  cutReached: boolean;
+  /** Fitted times (thinned), ps. */
+  ft: number[];
+  /** σ(t) = A t^b. */
+  b: number;
+  sigmaA: number;
+  fit: DoubleExponentialFit | null;
+  model: 'double exponential' | 'single exponential';
+  rejected: string | null;
+  eta: number;
+  etaErr: number | null;
+  plateau: number;
+  fitCurve: Float64Array;
+}
+
+/**
+ * Steps 4–5 of the analysis: the cut-off, the σ(t) power law, the weighted double-exponential fit
+ * of η̄(t) (replaced by the single exponential when it is not determined by the data), the plateau
+ * checks and the jackknife over the units. Reasons and notes go to the plan's lists.
+ */
+function fitRunningIntegral(st: UnitStatistics, plan: ViscosityPlan, dt: number): RunningIntegralFit {
+  const { fraction, m, maxLag, reasons, notes } = plan;
+  const { mean, sigma, time } = st;
+  const L = maxLag + 1;
   // 4. Cut-off and σ(t) power law.
   const cut = cutoffIndex(mean, sigma, fraction);
   const kCut = cut.index;
@@ -553,17 +521,71 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   // 5. Weighted double-exponential fit; jackknife over the units.
   const ft = fitIdx.map((k) => time[k]);
   const fw = ft.map((t) => 1 / Math.pow(t, b));
+  const fy = fitIdx.map((k) => mean[k]);
+  const { fit, model, rejected } = chooseModel(ft, fy, fw, reasons, notes);
+  const refit = (y: number[], start: DoubleExponentialFit) =>
+    model === 'single exponential' ? fitSingleExponential(ft, y, fw) : fitDoubleExponential(ft, y, fw, start);
+  let eta = NaN;
+  let etaErr: number | null = null;
+  let plateau = NaN;
+  const fitCurve = new Float64Array(L).fill(NaN);
+  if (fit) {
+    eta = fit.limit;
+    if (!fit.converged) reasons.push(`the ${model} fit did not converge (${fit.message})`);
+    for (let k = 0; k < L; k++) fitCurve[k] = doubleExponential(time[k], fit);
+    plateau = doubleExponential(time[kCut], fit) / fit.limit;
+    if (!(Math.abs(1 - plateau) <= PLATEAU_TOLERANCE)) {
+      reasons.push(
+        `no plateau: at the cut-off (${(kCut * dt).toPrecision(4)} ps) the fitted running integral is ${(100 * plateau).toFixed(0)} % of its long-time limit ` +
+          `(slow time τ₂ = ${fit.tau2.toPrecision(3)} ps); the limit is an extrapolation`,
+      );
+    }
+    if (!(eta > 0)) reasons.push('the fitted long-time limit is not positive');
+    const rise = plateauRise(st.unitCurves, kCut);
+    if (rise && rise.mean > 3 * rise.standardError && rise.mean > PLATEAU_TOLERANCE * Math.abs(eta)) {
+      reasons.push(
+        `no plateau: over the second half of the window (${((kCut >> 1) * dt).toPrecision(3)}–${(kCut * dt).toPrecision(3)} ps) the running integral ` +
+          `still rises by ${((100 * rise.mean) / Math.abs(eta)).toFixed(0)} % of η (${(rise.mean / rise.standardError).toFixed(1)} standard errors): the correlation has not decayed`,
+      );
+    }
+    const U = st.unitCurves.length;
+    const jack: number[] = [];
+    for (let u = 0; u < U; u++) {
+      const y = fitIdx.map((k) => (U * mean[k] - st.unitCurves[u][k]) / (U - 1));
+      try {
+        const f = refit(y, fit);
+        if (Number.isFinite(f.limit)) jack.push(f.limit);
+      } catch {
+        /* counted below */
+      }
+    }
+    if (jack.length === U) etaErr = jackknifeStandardError(jack);
+    else reasons.push(`the jackknife refit failed for ${U - jack.length} of ${U} estimates: no uncertainty`);
+  }
+  return { kCut, cutReached: cut.reached, ft, b, sigmaA, fit, model, rejected, eta, etaErr, plateau, fitCurve };
+}
+
+/**
+ * The fitted model: the double exponential, or — when a time constant sits on its bound or α lies
+ * outside [0, 1] (`doubleExponentialProblem`), so that the data do not support two decaying
+ * relaxations — the single exponential, the α = 1 case of the same model, when it fits inside
+ * its bounds. Failures are reasons; the switch is a note.
+ */
+function chooseModel(
+  ft: number[],
+  fy: number[],
+  fw: number[],
+  reasons: string[],
+  notes: string[],
+): { fit: DoubleExponentialFit | null; model: 'double exponential' | 'single exponential'; rejected: string | null } {
   let fit: DoubleExponentialFit | null = null;
   let model: 'double exponential' | 'single exponential' = 'double exponential';
   let rejected: string | null = null;
-  const fy = fitIdx.map((k) => mean[k]);
   try {
     fit = fitDoubleExponential(ft, fy, fw);
   } catch (e) {
     reasons.push(`the double-exponential fit failed: ${(e as Error).message}`);
   }
-  // A time constant on its bound or α outside [0, 1]: the data do not support two decaying
-  // relaxations; fall back to one (the α = 1 case of the same model).
   const problem = fit ? doubleExponentialProblem(fit) : null;
   if (fit && problem) {
     rejected = problem;
@@ -587,60 +609,26 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
       );
     }
   }
-  const refit = (y: number[], start: DoubleExponentialFit) =>
-    model === 'single exponential' ? fitSingleExponential(ft, y, fw) : fitDoubleExponential(ft, y, fw, start);
-  let eta = NaN;
-  let etaErr: number | null = null;
-  let plateau = NaN;
-  const fitCurve = new Float64Array(L).fill(NaN);
-  if (fit) {
-    eta = fit.limit;
-    if (!fit.converged) reasons.push(`the ${model} fit did not converge (${fit.message})`);
-    for (let k = 0; k < L; k++) fitCurve[k] = doubleExponential(time[k], fit);
-    plateau = doubleExponential(time[kCut], fit) / fit.limit;
-    if (!(Math.abs(1 - plateau) <= PLATEAU_TOLERANCE)) {
-      reasons.push(
-        `no plateau: at the cut-off (${(kCut * dt).toPrecision(4)} ps) the fitted running integral is ${(100 * plateau).toFixed(0)} % of its long-time limit ` +
-          `(slow time τ₂ = ${fit.tau2.toPrecision(3)} ps); the limit is an extrapolation`,
-      );
-    }
-    if (!(eta > 0)) reasons.push('the fitted long-time limit is not positive');
-    const rise = plateauRise(unitCurves, kCut);
-    if (rise && rise.mean > 3 * rise.standardError && rise.mean > PLATEAU_TOLERANCE * Math.abs(eta)) {
-      reasons.push(
-        `no plateau: over the second half of the window (${((kCut >> 1) * dt).toPrecision(3)}–${(kCut * dt).toPrecision(3)} ps) the running integral ` +
-          `still rises by ${((100 * rise.mean) / Math.abs(eta)).toFixed(0)} % of η (${(rise.mean / rise.standardError).toFixed(1)} standard errors): the correlation has not decayed`,
-      );
-    }
-    const jack: number[] = [];
-    for (let u = 0; u < U; u++) {
-      const y = fitIdx.map((k) => (U * mean[k] - unitCurves[u][k]) / (U - 1));
-      try {
-        const f = refit(y, fit);
-        if (Number.isFinite(f.limit)) jack.push(f.limit);
-      } catch {
-        /* counted below */
-      }
-    }
-    if (jack.length === U) {
-      const jm = jack.reduce((acc, v) => acc + v, 0) / U;
-      etaErr = Math.sqrt(((U - 1) / U) * jack.reduce((acc, v) => acc + (v - jm) ** 2, 0));
-    } else {
-      reasons.push(`the jackknife refit failed for ${U - jack.length} of ${U} estimates: no uncertainty`);
-    }
-  }
+  return { fit, model, rejected };
+}
 
-  // 6. Per-component values at the cut-off (mean and standard error over the segments).
-  const comps = components.map((c, ci) => {
-    const mu = compSum[ci][kCut] / N;
-    const sd = Math.sqrt(Math.max(0, (compSq[ci][kCut] - N * mu * mu) / (N - 1)));
-    return { name: c.name, meanRemoved: c.mean, runningIntegralEnd: quantity(mu, sd / Math.sqrt(N), 'Pa s') };
-  });
-
-  // 7. Helfand cross-check, per unit.
+/**
+ * Step 7 of the analysis: the Einstein–Helfand cross-check per unit, over the window from the
+ * time the fit reaches 95 % of its limit (or 5 correlation times) to the cut-off (at least 3× its
+ * start); its mean and standard error over the units. Notes go to the plan's list.
+ */
+function helfandCrossCheck(
+  components: ShearSeries[],
+  plan: ViscosityPlan,
+  dt: number,
+  g: RunningIntegralFit,
+  time: Float64Array,
+): { helfand: Quantity | null; helfandWindow: ViscosityResult['helfandWindow'] } {
+  const { pref, tc, N, m, maxLag, notes } = plan;
+  const { fit, eta, etaErr, kCut } = g;
   let helfand: Quantity | null = null;
   let helfandWindow: ViscosityResult['helfandWindow'] = null;
-  const startTime = fit && fit.converged && eta > 0 ? t95(fit, time[kCut]) : 5 * tc.tau;
+  const startTime = fit && fit.converged && eta > 0 ? doubleExponentialRiseTime(fit, 0.95, time[kCut]) : 5 * tc.tau;
   const hFrom = Math.max(1, Math.ceil(startTime / dt));
   const hTo = Math.min(maxLag - 1, Math.max(kCut, 3 * hFrom));
   if (hTo - hFrom >= 4) {
@@ -664,6 +652,36 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   } else {
     notes.push('no room for a Helfand fit window between the decay of the correlation and the cut-off');
   }
+  return { helfand, helfandWindow };
+}
+
+/**
+ * Viscosity by Green–Kubo with the time-decomposition method plus the Helfand cross-check (all
+ * methods and rules in the module comment). Never returns a bare number: when a rule fails,
+ * `converged` is false and `reasons` says why.
+ */
+export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
+  const { components, dt } = input;
+  const plan = planViscosity(input);
+  const { n, nc, fraction, tc, N, m, maxLag } = plan;
+  const { reasons, notes } = plan;
+  const U = N * nc;
+
+  // 3. Running integrals; 4–5. cut-off, fit and jackknife.
+  const st = unitStatistics(components, plan, dt);
+  const { mean, sigma, time } = st;
+  const g = fitRunningIntegral(st, plan, dt);
+  const { kCut, ft, fit, model, eta, etaErr, fitCurve } = g;
+
+  // 6. Per-component values at the cut-off (mean and standard error over the segments).
+  const comps = components.map((c, ci) => {
+    const mu = st.compSum[ci][kCut] / N;
+    const sd = Math.sqrt(Math.max(0, (st.compSq[ci][kCut] - N * mu * mu) / (N - 1)));
+    return { name: c.name, meanRemoved: c.mean, runningIntegralEnd: quantity(mu, sd / Math.sqrt(N), 'Pa s') };
+  });
+
+  // 7. Helfand cross-check, per unit.
+  const { helfand, helfandWindow } = helfandCrossCheck(components, plan, dt, g, time);
 
   // 8. Report.
   const rIdx = thinIndices(0, maxLag, MAX_REPORT_POINTS);
@@ -679,7 +697,7 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
     runningIntegral: { time: pick(time), eta: pick(mean), sigma: pick(sigma), fit: pick(fitCurve) },
     cutoffTime: quantity(kCut * dt, null, 'ps'),
     cutoffFraction: fraction,
-    cutoffReached: cut.reached,
+    cutoffReached: g.cutReached,
     fitWindow: { from: ft[0], to: ft[ft.length - 1], unit: 'ps' },
     components: comps,
     weighting:
@@ -688,15 +706,15 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
         : `equal weights (1/${nc}) over the available components ${components.map((c) => c.name).join(', ')}`,
     fit: {
       model,
-      rejectedDoubleExponential: rejected,
+      rejectedDoubleExponential: g.rejected,
       A: quantity(fit ? fit.A : NaN, null, 'Pa s/ps'),
       alpha: fit ? fit.alpha : NaN,
       tau1: quantity(fit ? fit.tau1 : NaN, null, 'ps'),
       tau2: quantity(fit ? fit.tau2 : NaN, null, 'ps'),
-      b,
-      sigmaPrefactor: sigmaA,
+      b: g.b,
+      sigmaPrefactor: g.sigmaA,
       converged: fit ? fit.converged : false,
-      plateauReached: plateau,
+      plateauReached: g.plateau,
     },
     helfand,
     helfandWindow,
@@ -723,18 +741,4 @@ export function plateauRise(segmentCurves: ReadonlyArray<ArrayLike<number>>, k: 
   if (segmentCurves.length < 2 || k < 2) return null;
   const st = blockStatistics(Array.from(segmentCurves, (c) => c[k] - c[k >> 1]));
   return { mean: st.mean, standardError: st.standardError };
-}
-
-/** Time at which the fitted double exponential reaches 95 % of its limit (bisection on [0, tMax]). */
-function t95(fit: DoubleExponential, tMax: number): number {
-  const lim = doubleExponentialLimit(fit);
-  let lo = 0;
-  let hi = tMax;
-  if (doubleExponential(hi, fit) < 0.95 * lim) return hi;
-  for (let i = 0; i < 60; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (doubleExponential(mid, fit) < 0.95 * lim) lo = mid;
-    else hi = mid;
-  }
-  return hi;
 }

@@ -7,6 +7,7 @@ import { describe, expect, it } from 'vitest';
 import {
   doubleExponential,
   doubleExponentialLimit,
+  doubleExponentialRiseTime,
   fitDoubleExponential,
   fitExponentialDecay,
   fitSingleExponential,
@@ -68,6 +69,20 @@ describe('double and single exponential fits', () => {
     expect(rel(f.tau2, 1.5)).toBeLessThan(1e-5);
     expect(rel(f.limit, 1.04)).toBeLessThan(1e-5);
     expect(() => fitDoubleExponential([1, 2, 3], [1, 2, 3], [1, 1, 1])).toThrow(/at least 6 points/);
+  });
+});
+
+describe('doubleExponentialRiseTime', () => {
+  it('a single exponential reaches 95 % of its limit at τ ln 20; the double one where its closed form says', () => {
+    // Truth: 1 − e^{−t/τ} = f at t = −τ ln(1 − f) = τ ln 20 for f = 0.95 (closed form). For the
+    // double exponential the bisection result must satisfy η(t) = 0.95·limit (tolerance 1e-12
+    // relative: 60 halvings of [0, 10]). A curve still below the level at tMax returns tMax.
+    const single = { A: 3 / 0.2, alpha: 1, tau1: 0.2, tau2: 0.2 };
+    expect(Math.abs(doubleExponentialRiseTime(single, 0.95, 10) - 0.2 * Math.log(20))).toBeLessThan(1e-12);
+    const p = { A: 2, alpha: 0.7, tau1: 0.1, tau2: 1.5 };
+    const t = doubleExponentialRiseTime(p, 0.95, 10);
+    expect(Math.abs(doubleExponential(t, p) / (0.95 * doubleExponentialLimit(p)) - 1)).toBeLessThan(1e-12);
+    expect(doubleExponentialRiseTime(p, 0.95, 0.5)).toBe(0.5);
   });
 });
 

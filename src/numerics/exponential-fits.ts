@@ -41,6 +41,24 @@ export function doubleExponentialLimit(p: DoubleExponential): number {
   return p.A * (p.alpha * p.tau1 + (1 - p.alpha) * p.tau2);
 }
 
+/**
+ * Time at which the double exponential reaches `fraction` of its long-time limit,
+ * η(t) = fraction · A(ατ₁ + (1 − α)τ₂), by 60 bisections on [0, tMax]; tMax itself when the curve
+ * has not reached it there (a rising sum of relaxations: the crossing is unique).
+ */
+export function doubleExponentialRiseTime(p: DoubleExponential, fraction: number, tMax: number): number {
+  const lim = doubleExponentialLimit(p);
+  let lo = 0;
+  let hi = tMax;
+  if (doubleExponential(hi, p) < fraction * lim) return hi;
+  for (let i = 0; i < 60; i++) {
+    const mid = 0.5 * (lo + hi);
+    if (doubleExponential(mid, p) < fraction * lim) lo = mid;
+    else hi = mid;
+  }
+  return hi;
+}
+
 /** Result of `fitDoubleExponential`. */
 export interface DoubleExponentialFit extends DoubleExponential {
   limit: number;
