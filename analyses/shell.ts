@@ -33,7 +33,7 @@ import { planSegments, MIN_WINDOW_POINTS, type LagWindow } from '../src/fit.js';
 import { blockStatistics } from '../src/numerics/block-statistics.js';
 import { fitExponentialDecay } from '../src/numerics/exponential-fits.js';
 import { laggedProductSums } from '../src/correlate.js';
-import { inefficiency } from './converge.js';
+import { inefficiency } from '../src/numerics/inefficiency.js';
 
 /** The fit window ends before the survival function first drops below this value (≈ 3τ). */
 export const FIT_FLOOR = 0.05;
