@@ -1,7 +1,7 @@
 /**
- * Window, segment, plateau and sampling rules (src/fit.ts), the estimate comparison of the
- * diffusion command and the window option parsing, against hand computations and closed-form
- * curves. The numerics they use are tested in test/numerics-*.test.ts.
+ * Window, segment, plateau and sampling rules (src/fit.ts) and the window option parsing, against
+ * hand computations and closed-form curves. The numerics they use are tested in
+ * test/numerics-*.test.ts.
  */
 import { describe, expect, it } from 'vitest';
 import {
@@ -16,8 +16,6 @@ import {
 } from '../src/fit.js';
 import { ONE_SIGMA_LEVEL } from '../src/numerics/student-t.js';
 import { UsageError } from '../src/errors.js';
-import { quantity } from '../src/types.js';
-import { compareEstimates } from '../src/commands/diffusion.js';
 import { windowOptions, parseSegments } from '../src/commands/msd.js';
 
 describe('window rules', () => {
@@ -89,21 +87,6 @@ describe('segments', () => {
     expect(planSegments(1000, { from: 10, to: 150 }, { mayShrink: false })).toMatchObject({ ok: true, segments: 3 });
   });
 
-});
-
-describe('comparison of two estimates (diffusion command)', () => {
-  it('agree at 2σ, disagree at 3σ of the combined uncertainty', () => {
-    // Truth: σ_Δ = √(0.03² + 0.04²) = 0.05 (3-4-5 triangle; JCGM 100:2008 eq. 10); Δ = 0.1 → 2σ (agree,
-    // the threshold is inclusive), Δ = 0.15 → 3σ (disagree). Tolerance 1e-12: arithmetic.
-    const a = quantity(1.0, 0.03, 'm^2/s');
-    const ok = compareEstimates(a, quantity(0.9, 0.04, 'm^2/s'));
-    expect(Math.abs(ok.sigmas! - 2)).toBeLessThan(1e-12);
-    expect(ok.agree).toBe(true);
-    const bad = compareEstimates(a, quantity(0.85, 0.04, 'm^2/s'));
-    expect(Math.abs(bad.sigmas! - 3)).toBeLessThan(1e-12);
-    expect(bad.agree).toBe(false);
-    expect(compareEstimates(a, quantity(0.9, null, 'm^2/s')).agree).toBeNull();
-  });
 });
 
 describe('window options', () => {
