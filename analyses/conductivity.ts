@@ -41,9 +41,11 @@ import { quantity } from '../src/types.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
 import { UsageError } from '../src/errors.js';
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } from '../src/units.js';
-import { nernstEinsteinConductivity, nernstEinsteinUncertainty, relativeErrorProduct } from '../src/transport.js';
+import { nernstEinsteinConductivity, nernstEinsteinUncertainty } from '../src/transport.js';
+import { ratioWithUncertainty } from '../src/numerics/propagation.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
-import { correlationSamplingProblem, cumulativeTrapezoid, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
+import { correlationSamplingProblem, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
   StoreView,
   analyseMsd,
@@ -298,19 +300,6 @@ export function concentrationMolPerM3(count: number, volumeA3: number): number {
   return count / (AVOGADRO * volumeA3 * CUBIC_ANGSTROM);
 }
 
-/**
- * Ratio a/b with first-order uncertainty u_r = √((u_a/a)² + (u_b/b)²)·|a/b| (JCGM 100:2008 eq. 12,
- * independent inputs). Null uncertainties count as exact; both null gives null.
- */
-export function ratioWithUncertainty(a: Quantity, b: Quantity, unit: string): Quantity {
-  const r = a.value / b.value;
-  const unc =
-    a.uncertainty === null && b.uncertainty === null
-      ? null
-      : Math.abs(r) * relativeErrorProduct([{ value: a.value, uncertainty: a.uncertainty }, { value: b.value, uncertainty: b.uncertainty, power: -1 }]);
-  return quantity(r, unc, unit);
-}
-
 // ---------------------------------------------------------------------------------------------
 // Collective series
 // ---------------------------------------------------------------------------------------------
@@ -559,9 +548,9 @@ export function analyseConductivity(
     notes.push('Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)');
   }
 
-  const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1') : quantity(NaN, null, '1');
+  const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1', { oneUnknown: 'nan' }) : quantity(NaN, null, '1');
   let havenRatio: Quantity | null = null;
-  if (ehValue > 0 && species.length > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1');
+  if (ehValue > 0 && species.length > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1', { oneUnknown: 'nan' });
   else if (!(ehValue > 0)) notes.push('Einstein–Helfand conductivity is not positive: no Haven ratio');
 
   let cations = 0;

@@ -12,12 +12,13 @@ import { rdfAnalysis } from './rdf-analysis.js';
 import { reportRdfPass } from './rdf-auto.js';
 import { shellAnalysis } from './shell.js';
 import { vacfAnalysis } from './vacf.js';
-import { msdPass } from './msd.js';
-import { conductivityPass } from './conductivity.js';
+import { msdAnalysis } from './msd-analysis.js';
+import { diffusionAnalysis } from './diffusion-analysis.js';
+import { conductivityAnalysis } from './conductivity-analysis.js';
 import { speciesStorePass } from './msd.js';
 
 /** The analyses that are commands of their own (src/cli builds one command per entry). */
-export const ANALYSES: readonly AnyAnalysis[] = [rdfAnalysis, shellAnalysis, vacfAnalysis];
+export const ANALYSES: readonly AnyAnalysis[] = [rdfAnalysis, shellAnalysis, msdAnalysis, vacfAnalysis, diffusionAnalysis, conductivityAnalysis];
 
 /** Pass factories by recipe kind: each analysis's own pass under its name, and shared passes. */
 export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
@@ -25,8 +26,6 @@ export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
   overview: () => overviewPass,
   framewise: () => framewiseObservables,
   'rdf-auto': reportRdfPass,
-  msd: msdPass,
-  conductivity: conductivityPass,
   'species-store': speciesStorePass,
 };
 

@@ -52,8 +52,6 @@ import { AnalysisError, UsageError } from '../src/errors.js';
 import { A2_PER_PS } from '../src/units.js';
 import { yehHummerCorrection, YEH_HUMMER_XI } from '../src/transport.js';
 import {
-  blockStatistics,
-  fitLine,
   maxLagIndex,
   planSegments,
   segmentedDiffusiveWindow,
@@ -68,6 +66,8 @@ import {
   MIN_WINDOW_POINTS,
   type LagWindow,
 } from '../src/fit.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
+import { fitLine } from '../src/numerics/line-fit.js';
 
 // ---------------------------------------------------------------------------------------------
 // Sites and groups

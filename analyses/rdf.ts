@@ -36,8 +36,8 @@ import { CellGeometry } from '../src/cell.js';
 import { PairHistogram, type SearchMethod } from '../src/neighbors.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
-import { blockStatistics } from '../src/fit.js';
-import { inefficiency } from './converge.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
+import { inefficiency } from '../src/numerics/inefficiency.js';
 import {
   structureFactor, structureFactorGrid, lennardJonesEnergy, lennardJonesPressure, kirkwoodBuffRunning, kirkwoodBuffFiniteVolume,
   kirkwoodBuffExtrapolation, KB_EXTRAPOLATION_FROM,

@@ -29,9 +29,11 @@ import { CellGeometry } from '../src/cell.js';
 import { forEachPairWithin } from '../src/neighbors.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
-import { fitLine, planSegments, blockStatistics, MIN_WINDOW_POINTS, type LagWindow } from '../src/fit.js';
+import { planSegments, MIN_WINDOW_POINTS, type LagWindow } from '../src/fit.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
+import { fitExponentialDecay } from '../src/numerics/exponential-fits.js';
 import { laggedProductSums } from '../src/correlate.js';
-import { inefficiency } from './converge.js';
+import { inefficiency } from '../src/numerics/inefficiency.js';
 import { defineAnalysis } from '../src/engine/analysis.js';
 import { SHARED, type OptionValues } from '../src/engine/options.js';
 import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js';
@@ -140,24 +142,6 @@ export function survivalWindow(c: ArrayLike<number>, toleranceFrames: number, fl
     }
   }
   return { from, to, decayed };
-}
-
-/**
- * Residence time from ln C(t) = a − t/τ by unweighted least squares over lags [from, to]
- * (Press et al., Numerical Recipes, 3rd ed. 2007, §15.2 via src/fit.ts fitLine): τ = −1/slope
- * in the unit of `time`. Returns NaN when a value in the window is not positive or the slope is
- * not negative.
- */
-export function fitExponentialDecay(time: ArrayLike<number>, c: ArrayLike<number>, from: number, to: number): number {
-  const x: number[] = [], y: number[] = [];
-  for (let t = from; t <= to; t++) {
-    if (!(c[t] > 0)) return NaN;
-    x.push(time[t]);
-    y.push(Math.log(c[t]));
-  }
-  if (x.length < 3) return NaN;
-  const f = fitLine(x, y);
-  return f.slope < 0 ? -1 / f.slope : NaN;
 }
 
 /** Configuration of the shell pass. */

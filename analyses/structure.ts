@@ -11,7 +11,7 @@
  */
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, GAS_CONSTANT, parseQuantity } from '../src/units.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
-import { fitLine } from '../src/fit.js';
+import { fitLine } from '../src/numerics/line-fit.js';
 
 /** Window applied to (g − 1) before the Fourier transform. */
 export type SqWindow = 'lorch' | 'none';

@@ -43,9 +43,7 @@ import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js'
 import { CAUTION } from '../src/caution.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
 import {
-  blockStatistics,
   correlationSamplingProblem,
-  cumulativeTrapezoid,
   maxLagIndex,
   plateauDriftCheck,
   plateauWindow,
@@ -62,6 +60,8 @@ import {
   type LagWindow,
   type PlateauDrift,
 } from '../src/fit.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
   StoreView,
   gatherSeries,

@@ -55,7 +55,22 @@
  * time in ps, viscosity in Pa s.
  */
 import { autocorrelation, nextPowerOfTwo } from '../src/correlate.js';
-import { fitLine, blockStatistics, correlationSamplingProblem } from '../src/fit.js';
+import { correlationSamplingProblem } from '../src/fit.js';
+import { blockStatistics } from '../src/numerics/block-statistics.js';
+import {
+  doubleExponential,
+  doubleExponentialRiseTime,
+  fitDoubleExponential,
+  fitSingleExponential,
+  BOUND_MARGIN,
+  type DoubleExponentialFit,
+} from '../src/numerics/exponential-fits.js';
+import { helfandMsd } from '../src/numerics/helfand-moment.js';
+import { integralCorrelationTime } from '../src/numerics/correlation-time.js';
+import { jackknifeStandardError } from '../src/numerics/jackknife.js';
+import { fitLine } from '../src/numerics/line-fit.js';
+import { fitPowerLaw } from '../src/numerics/power-law.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { BOLTZMANN, CUBIC_ANGSTROM, PICOSECOND } from '../src/units.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
 import { quantity, type Quantity } from '../src/types.js';
@@ -104,43 +119,6 @@ export function greenKuboPrefactor(volumeA3: number, temperatureK: number, pasca
 }
 
 /**
- * Cumulative trapezoid integral I_k = Σ_{j<k} (y_j + y_{j+1})/2 · dt, I_0 = 0, times `scale`
- * (Press et al., Numerical Recipes, 3rd ed. (2007), §4.1). Writes into `out` when given.
- */
-export function runningIntegral(y: ArrayLike<number>, dt: number, scale = 1, out?: Float64Array): Float64Array {
-  const r = out ?? new Float64Array(y.length);
-  let s = 0;
-  if (y.length > 0) r[0] = 0;
-  for (let k = 1; k < y.length; k++) {
-    s += 0.5 * (y[k - 1] + y[k]) * dt;
-    r[k] = s * scale;
-  }
-  return r;
-}
-
-/**
- * Integral correlation time of a correlation function C(k) on a grid of spacing dt:
- * τ = ∫₀^{t₀} C(t)/C(0) dt (trapezoid) up to the first zero crossing t₀ of C (common practice,
- * no source; for C = e^{−t/τ} plus noise it returns ≈ τ). `decayed` is false when C never
- * reaches zero within the array (τ is then a lower bound).
- */
-export function integralCorrelationTime(c: ArrayLike<number>, dt: number): { tau: number; decayed: boolean } {
-  const c0 = c[0];
-  if (!(c0 > 0)) return { tau: 0, decayed: true };
-  let s = 0;
-  for (let k = 1; k < c.length; k++) {
-    if (c[k] <= 0) {
-      // Linear interpolation to the crossing.
-      const f = c[k - 1] / (c[k - 1] - c[k]);
-      s += 0.5 * c[k - 1] * f * dt;
-      return { tau: s / c0, decayed: true };
-    }
-    s += 0.5 * (c[k - 1] + c[k]) * dt;
-  }
-  return { tau: s / c0, decayed: false };
-}
-
-/**
  * Default number of segments: N = min(10, ⌊n / (200 τ/dt)⌋), at least 3, so that each segment
  * spans ≥ 200 stress correlation times τ when the run allows (common practice, no source).
  */
@@ -161,387 +139,8 @@ export function cutoffIndex(mean: ArrayLike<number>, sd: ArrayLike<number>, frac
   return { index: mean.length - 1, reached: false };
 }
 
-/**
- * Power law σ(t) = A t^b by a straight-line least-squares fit of ln σ on ln t over the points
- * with t > 0 and σ > 0 (Zhang, Otani & Maginn 2015 fit σ(t) this way; line fit: Numerical
- * Recipes §15.2).
- */
-export function fitPowerLaw(t: ArrayLike<number>, s: ArrayLike<number>): { A: number; b: number } {
-  const x: number[] = [];
-  const y: number[] = [];
-  for (let i = 0; i < t.length; i++) {
-    if (t[i] > 0 && s[i] > 0) {
-      x.push(Math.log(t[i]));
-      y.push(Math.log(s[i]));
-    }
-  }
-  if (x.length < 3) throw new AnalysisError('too few positive points to fit σ(t) = A t^b');
-  const f = fitLine(x, y);
-  return { A: Math.exp(f.intercept), b: f.slope };
-}
-
-/** Parameters of the double-exponential running integral of Zhang, Otani & Maginn (2015). */
-export interface DoubleExponential {
-  /** Initial slope dη/dt at t = 0 (η per time unit). */
-  A: number;
-  alpha: number;
-  tau1: number;
-  tau2: number;
-}
-
-/**
- * η(t) = A α τ₁ (1 − e^{−t/τ₁}) + A (1 − α) τ₂ (1 − e^{−t/τ₂}) (Zhang, Otani & Maginn,
- * J. Chem. Theory Comput. 11, 3537 (2015)).
- */
-export function doubleExponential(t: number, p: DoubleExponential): number {
-  return p.A * p.alpha * p.tau1 * -Math.expm1(-t / p.tau1) + p.A * (1 - p.alpha) * p.tau2 * -Math.expm1(-t / p.tau2);
-}
-
-/** Long-time limit of the double exponential: A (α τ₁ + (1 − α) τ₂). */
-export function doubleExponentialLimit(p: DoubleExponential): number {
-  return p.A * (p.alpha * p.tau1 + (1 - p.alpha) * p.tau2);
-}
-
 // ---------------------------------------------------------------------------------------------
-// Levenberg–Marquardt
-
-/** Options of `levenbergMarquardt`. */
-export interface LmOptions {
-  maxIterations?: number;
-  /** Stop when every step component satisfies |δ_i| ≤ xtol (|p_i| + xtol). */
-  xtol?: number;
-  /** Stop when an accepted step lowers the cost by less than ftol relative. */
-  ftol?: number;
-  /** Initial damping λ. */
-  lambda?: number;
-}
-
-/** Outcome of `levenbergMarquardt`. */
-export interface LmResult {
-  params: Float64Array;
-  /** ½ Σ r_i² at the solution. */
-  cost: number;
-  iterations: number;
-  converged: boolean;
-  message: string;
-}
-
-/** Solve the small dense system M x = v (Gaussian elimination with partial pivoting); null if singular. */
-function solveSmall(M: Float64Array, v: Float64Array, n: number): Float64Array | null {
-  const a = Float64Array.from(M);
-  const b = Float64Array.from(v);
-  for (let col = 0; col < n; col++) {
-    let piv = col;
-    for (let r = col + 1; r < n; r++) if (Math.abs(a[r * n + col]) > Math.abs(a[piv * n + col])) piv = r;
-    if (!(Math.abs(a[piv * n + col]) > 0)) return null;
-    if (piv !== col) {
-      for (let c = 0; c < n; c++) [a[col * n + c], a[piv * n + c]] = [a[piv * n + c], a[col * n + c]];
-      [b[col], b[piv]] = [b[piv], b[col]];
-    }
-    for (let r = col + 1; r < n; r++) {
-      const f = a[r * n + col] / a[col * n + col];
-      if (f === 0) continue;
-      for (let c = col; c < n; c++) a[r * n + c] -= f * a[col * n + c];
-      b[r] -= f * b[col];
-    }
-  }
-  const x = new Float64Array(n);
-  for (let r = n - 1; r >= 0; r--) {
-    let s = b[r];
-    for (let c = r + 1; c < n; c++) s -= a[r * n + c] * x[c];
-    x[r] = s / a[r * n + r];
-  }
-  return x;
-}
-
-/**
- * Levenberg–Marquardt minimisation of ½ Σ r_i(p)² (Levenberg, Q. Appl. Math. 2, 164 (1944);
- * Marquardt, J. SIAM 11, 431 (1963); Numerical Recipes §15.5.2): each step solves
- * (JᵀJ + λ diag(JᵀJ)) δ = −Jᵀr, with J by central differences; a step that lowers the cost is
- * accepted and λ divided by 10, otherwise λ is multiplied by 10. `residual(p, out)` fills the m
- * residuals; `opts.jacobian(p, J)`, when given, fills ∂r_i/∂p_j row-major (else central differences).
- */
-export function levenbergMarquardt(
-  residual: (p: Float64Array, out: Float64Array) => void,
-  m: number,
-  p0: ArrayLike<number>,
-  opts: LmOptions & { jacobian?: (p: Float64Array, J: Float64Array) => void } = {},
-): LmResult {
-  const n = p0.length;
-  const maxIt = opts.maxIterations ?? 200;
-  const xtol = opts.xtol ?? 1e-10;
-  const ftol = opts.ftol ?? 1e-14;
-  let lambda = opts.lambda ?? 1e-3;
-  let p = Float64Array.from(p0);
-  const r = new Float64Array(m);
-  const rTry = new Float64Array(m);
-  const rp = new Float64Array(m);
-  const rm = new Float64Array(m);
-  const J = new Float64Array(m * n);
-  const cost = (v: Float64Array) => {
-    let s = 0;
-    for (let i = 0; i < m; i++) s += v[i] * v[i];
-    return 0.5 * s;
-  };
-  residual(p, r);
-  let c = cost(r);
-  if (!Number.isFinite(c)) return { params: p, cost: c, iterations: 0, converged: false, message: 'residuals not finite at the start' };
-  for (let it = 1; it <= maxIt; it++) {
-    // Jacobian: analytic when given (row-major m×n), else central differences.
-    if (opts.jacobian) opts.jacobian(p, J);
-    else for (let j = 0; j < n; j++) {
-      const h = 1e-6 * Math.max(Math.abs(p[j]), 1e-3);
-      const pj = p[j];
-      p[j] = pj + h;
-      residual(p, rp);
-      p[j] = pj - h;
-      residual(p, rm);
-      p[j] = pj;
-      for (let i = 0; i < m; i++) J[i * n + j] = (rp[i] - rm[i]) / (2 * h);
-    }
-    const A = new Float64Array(n * n);
-    const g = new Float64Array(n);
-    for (let i = 0; i < m; i++) {
-      for (let a = 0; a < n; a++) {
-        const ja = J[i * n + a];
-        g[a] += ja * r[i];
-        for (let b = a; b < n; b++) A[a * n + b] += ja * J[i * n + b];
-      }
-    }
-    for (let a = 0; a < n; a++) for (let b = 0; b < a; b++) A[a * n + b] = A[b * n + a];
-    let gmax = 0;
-    for (let a = 0; a < n; a++) gmax = Math.max(gmax, Math.abs(g[a]));
-    if (gmax === 0) return { params: p, cost: c, iterations: it, converged: true, message: 'zero gradient' };
-    let diagMax = 0;
-    for (let a = 0; a < n; a++) diagMax = Math.max(diagMax, A[a * n + a]);
-    let accepted = false;
-    while (!accepted) {
-      const M = Float64Array.from(A);
-      for (let a = 0; a < n; a++) M[a * n + a] += lambda * Math.max(A[a * n + a], 1e-12 * diagMax);
-      const neg = g.map((x) => -x);
-      const delta = solveSmall(M, neg, n);
-      if (delta === null) {
-        lambda *= 10;
-        if (lambda > 1e16) return { params: p, cost: c, iterations: it, converged: false, message: 'normal equations singular' };
-        continue;
-      }
-      const pTry = new Float64Array(n);
-      for (let a = 0; a < n; a++) pTry[a] = p[a] + delta[a];
-      residual(pTry, rTry);
-      const cTry = cost(rTry);
-      if (Number.isFinite(cTry) && cTry < c) {
-        accepted = true;
-        const small = delta.every((d, a) => Math.abs(d) <= xtol * (Math.abs(p[a]) + xtol));
-        const relDrop = (c - cTry) / Math.max(c, Number.MIN_VALUE);
-        p = pTry;
-        r.set(rTry);
-        c = cTry;
-        lambda = Math.max(lambda / 10, 1e-15);
-        if (small || relDrop < ftol) return { params: p, cost: c, iterations: it, converged: true, message: small ? 'step below xtol' : 'cost change below ftol' };
-      } else {
-        lambda *= 10;
-        if (lambda > 1e16) {
-          // No downhill step at any damping: a minimum to machine precision.
-          return { params: p, cost: c, iterations: it, converged: true, message: 'no further decrease possible' };
-        }
-      }
-    }
-  }
-  return { params: p, cost: c, iterations: maxIt, converged: false, message: `no convergence in ${maxIt} iterations` };
-}
-
-// ---------------------------------------------------------------------------------------------
-// Double-exponential fit: grid + linear start, then Levenberg–Marquardt
-
-/** Result of `fitDoubleExponential`. */
-export interface DoubleExponentialFit extends DoubleExponential {
-  limit: number;
-  converged: boolean;
-  message: string;
-  /** Bounds of the time constants, [t_min/2, t_max/3] of the fitted times (ps). */
-  tauBounds: { lower: number; upper: number };
-}
-
-/**
- * Weighted least-squares fit of the double exponential (parameters as in `doubleExponential`)
- * to points (t_i, y_i) with weights w_i: minimises Σ w_i (y_i − η(t_i))².
- * Both time constants are bounded to [t_min/2, t_max/3] (t_min, t_max: first and last positive
- * time of the data), so that every fitted relaxation has decayed to e^{−3} ≈ 5 % by the end of
- * the window: a slower one cannot be told apart from the random-walk drift that noise gives the
- * running integral, which an unbounded τ₂ fits as a straight line (our choice, not the paper's;
- * `analyseViscosity` separately tests whether the data still rise at the end of the window).
- * The bound is built in by τ = exp(ln τ_lo + (ln τ_hi − ln τ_lo)(1 + tanh u)/2).
- * Start: the model is linear in a₁ = Aατ₁ and a₂ = A(1−α)τ₂ for fixed τ₁, τ₂, so a log grid of
- * (τ₁ ≤ τ₂) pairs is scanned with a 2×2 weighted linear solve at each (separable least squares,
- * Golub & Pereyra, SIAM J. Numer. Anal. 10, 413 (1973)); the best pair starts a
- * Levenberg–Marquardt refinement of (a₁, a₂, u₁, u₂) with the analytic Jacobian. Times and
- * values are scaled to order one inside. Returns τ₁ ≤ τ₂. With `start`, the grid is skipped and
- * the refinement starts there (used for the jackknife refits).
- */
-export function fitDoubleExponential(
-  t: ArrayLike<number>,
-  y: ArrayLike<number>,
-  w: ArrayLike<number>,
-  start?: DoubleExponential,
-): DoubleExponentialFit {
-  const m = t.length;
-  if (m < 6) throw new AnalysisError(`double-exponential fit needs at least 6 points, got ${m}`);
-  let tMax = 0;
-  let yMax = 0;
-  let wMax = 0;
-  let tMin = Infinity;
-  for (let i = 0; i < m; i++) {
-    tMax = Math.max(tMax, t[i]);
-    if (t[i] > 0) tMin = Math.min(tMin, t[i]);
-    yMax = Math.max(yMax, Math.abs(y[i]));
-    wMax = Math.max(wMax, w[i]);
-  }
-  if (!(tMax > 0) || !(yMax > 0) || !(wMax > 0)) throw new AnalysisError('double-exponential fit: data are all zero');
-  const ts = new Float64Array(m);
-  const ys = new Float64Array(m);
-  const sw = new Float64Array(m);
-  for (let i = 0; i < m; i++) {
-    ts[i] = t[i] / tMax;
-    ys[i] = y[i] / yMax;
-    sw[i] = Math.sqrt(w[i] / wMax);
-  }
-  // Bounds of the time constants (scaled units) and the bounded map u → τ.
-  const lnLo = Math.log(Math.max(tMin / tMax, 1e-9) / 2);
-  const lnHi = Math.log(1 / 3);
-  const span = lnHi - lnLo;
-  const tauOf = (u: number) => Math.exp(lnLo + (span * (1 + Math.tanh(u))) / 2);
-  const uOf = (tau: number) => {
-    const x = (2 * (Math.log(tau) - lnLo)) / span - 1;
-    return Math.atanh(Math.max(-0.995, Math.min(0.995, x)));
-  };
-  // Start: grid of time constants strictly inside the bounds.
-  const gridStart = (): number[] => {
-    const G = 24;
-    const taus = Array.from({ length: G }, (_, k) => Math.exp(lnLo + (span * (k + 0.5)) / G));
-    const basis = taus.map((tau) => {
-      const b = new Float64Array(m);
-      for (let i = 0; i < m; i++) b[i] = -Math.expm1(-ts[i] / tau);
-      return b;
-    });
-    let best = { cost: Infinity, a1: 0, a2: 0, i: 0, j: 0 };
-    for (let i = 0; i < G; i++) {
-      for (let j = i; j < G; j++) {
-        const b1 = basis[i];
-        const b2 = basis[j];
-        let s11 = 0, s12 = 0, s22 = 0, s1y = 0, s2y = 0, syy = 0;
-        for (let k = 0; k < m; k++) {
-          const ww = sw[k] * sw[k];
-          s11 += ww * b1[k] * b1[k];
-          s12 += ww * b1[k] * b2[k];
-          s22 += ww * b2[k] * b2[k];
-          s1y += ww * b1[k] * ys[k];
-          s2y += ww * b2[k] * ys[k];
-          syy += ww * ys[k] * ys[k];
-        }
-        let a1: number;
-        let a2: number;
-        const det = s11 * s22 - s12 * s12;
-        if (i === j || !(det > 1e-12 * s11 * s22)) {
-          a1 = s1y / s11;
-          a2 = 0;
-        } else {
-          a1 = (s22 * s1y - s12 * s2y) / det;
-          a2 = (s11 * s2y - s12 * s1y) / det;
-        }
-        const cost = syy - 2 * (a1 * s1y + a2 * s2y) + a1 * a1 * s11 + 2 * a1 * a2 * s12 + a2 * a2 * s22;
-        if (cost < best.cost) best = { cost, a1, a2, i, j };
-      }
-    }
-    // Separate the two starting times a little when the grid chose a single exponential.
-    const j0 = best.j === best.i ? Math.min(G - 1, best.i + 2) : best.j;
-    const i0 = best.j === best.i && j0 === best.i ? Math.max(0, best.i - 2) : best.i;
-    return [best.a1, best.a2, uOf(taus[i0]), uOf(taus[j0])];
-  };
-  let p0: number[];
-  if (start) {
-    p0 = [
-      (start.A * start.alpha * start.tau1) / yMax,
-      (start.A * (1 - start.alpha) * start.tau2) / yMax,
-      uOf(start.tau1 / tMax),
-      uOf(start.tau2 / tMax),
-    ];
-  } else {
-    p0 = gridStart();
-  }
-  const residual = (p: Float64Array, out: Float64Array) => {
-    const t1 = tauOf(p[2]);
-    const t2 = tauOf(p[3]);
-    for (let k = 0; k < m; k++) {
-      const f = p[0] * -Math.expm1(-ts[k] / t1) + p[1] * -Math.expm1(-ts[k] / t2);
-      out[k] = sw[k] * (ys[k] - f);
-    }
-  };
-  // ∂r/∂a_i = −√w φ_i, ∂r/∂u_i = √w a_i (t/τ_i²) e^{−t/τ_i} · dτ_i/du_i,
-  // dτ/du = τ · span · (1 − tanh² u)/2.
-  const jacobian = (p: Float64Array, J: Float64Array) => {
-    const t1 = tauOf(p[2]);
-    const t2 = tauOf(p[3]);
-    const th1 = Math.tanh(p[2]);
-    const th2 = Math.tanh(p[3]);
-    const d1 = (t1 * span * (1 - th1 * th1)) / 2;
-    const d2 = (t2 * span * (1 - th2 * th2)) / 2;
-    for (let k = 0; k < m; k++) {
-      const e1 = Math.exp(-ts[k] / t1);
-      const e2 = Math.exp(-ts[k] / t2);
-      J[4 * k] = -sw[k] * (1 - e1);
-      J[4 * k + 1] = -sw[k] * (1 - e2);
-      J[4 * k + 2] = sw[k] * p[0] * (ts[k] / (t1 * t1)) * e1 * d1;
-      J[4 * k + 3] = sw[k] * p[1] * (ts[k] / (t2 * t2)) * e2 * d2;
-    }
-  };
-  const lm = levenbergMarquardt(residual, m, p0, {
-    // A relative change of 1e-9 in the weighted sum of squares is far below anything the data
-    // can resolve; flat directions (a near-single exponential) would otherwise creep for long.
-    maxIterations: 500,
-    ftol: 1e-9,
-    jacobian,
-  });
-  let a1 = lm.params[0] * yMax;
-  let a2 = lm.params[1] * yMax;
-  let tau1 = tauOf(lm.params[2]) * tMax;
-  let tau2 = tauOf(lm.params[3]) * tMax;
-  let converged = lm.converged;
-  let message = lm.message;
-  if (!lm.converged && Math.abs(Math.log(tau2 / tau1)) < 0.2) {
-    // The two time constants have merged (the data hold one relaxation): the double exponential
-    // is degenerate along a1 + a2 = const, so fit the single exponential it reduces to.
-    const one = (p: Float64Array, out: Float64Array) => {
-      const t1 = tauOf(p[1]);
-      for (let k = 0; k < m; k++) out[k] = sw[k] * (ys[k] - p[0] * -Math.expm1(-ts[k] / t1));
-    };
-    const lm1 = levenbergMarquardt(one, m, [lm.params[0] + lm.params[1], lm.params[2]], { maxIterations: 500, ftol: 1e-9 });
-    a1 = lm1.params[0] * yMax;
-    a2 = 0;
-    tau1 = tau2 = tauOf(lm1.params[1]) * tMax;
-    converged = lm1.converged;
-    message = `the two time constants merged; single exponential (${lm1.message})`;
-  }
-  if (tau1 > tau2) {
-    [a1, a2] = [a2, a1];
-    [tau1, tau2] = [tau2, tau1];
-  }
-  const A = a1 / tau1 + a2 / tau2;
-  const alpha = A !== 0 ? a1 / tau1 / A : 0.5;
-  const finite = [A, alpha, tau1, tau2].every(Number.isFinite);
-  return {
-    A,
-    alpha,
-    tau1,
-    tau2,
-    limit: a1 + a2,
-    converged: converged && finite,
-    message: finite ? message : 'fit parameters not finite',
-    tauBounds: { lower: Math.exp(lnLo) * tMax, upper: tMax / 3 },
-  };
-}
-
-/** A fitted time constant within this fraction of its bound counts as sitting on the bound. */
-export const BOUND_MARGIN = 0.01;
+// Trust in a double-exponential fit
 
 /**
  * Why a fitted double exponential cannot be trusted, or null: a time constant on its bound
@@ -568,138 +167,6 @@ export function doubleExponentialProblem(fit: DoubleExponentialFit): string | nu
     out.push(`the fast time τ₁ = ${fit.tau1.toPrecision(4)} ps sits at its lower bound t_min/2 = ${lower.toPrecision(4)} ps (set by the bound, not the data)`);
   }
   return out.length ? out.join('; ') : null;
-}
-
-/**
- * Weighted least-squares fit of the single exponential η(t) = a(1 − e^{−t/τ}) — the α = 1 case of
- * the model of Zhang, Otani & Maginn (2015), limit a, initial slope A = a/τ — with τ bounded as in
- * `fitDoubleExponential` ([t_min/2, t_max/3]). The model is linear in a for fixed τ, so the cost
- * is profiled over ln τ (separable least squares, Golub & Pereyra 1973): a scan of 200 log-spaced
- * τ, then golden-section refinement around the best (Numerical Recipes §10.2). Returned in the
- * double-exponential form with α = 1 and τ₂ = τ₁ = τ; converged = false when τ ends on a bound.
- */
-export function fitSingleExponential(t: ArrayLike<number>, y: ArrayLike<number>, w: ArrayLike<number>): DoubleExponentialFit {
-  const m = t.length;
-  if (m < 3) throw new AnalysisError(`single-exponential fit needs at least 3 points, got ${m}`);
-  let tMax = 0;
-  let tMin = Infinity;
-  for (let i = 0; i < m; i++) {
-    tMax = Math.max(tMax, t[i]);
-    if (t[i] > 0) tMin = Math.min(tMin, t[i]);
-  }
-  if (!(tMax > 0)) throw new AnalysisError('single-exponential fit: no positive times');
-  const lower = Math.max(tMin, 1e-9 * tMax) / 2;
-  const upper = tMax / 3;
-  const profile = (lnTau: number) => {
-    const tau = Math.exp(lnTau);
-    let sff = 0, sfy = 0, syy = 0;
-    for (let i = 0; i < m; i++) {
-      const f = -Math.expm1(-t[i] / tau);
-      sff += w[i] * f * f;
-      sfy += w[i] * f * y[i];
-      syy += w[i] * y[i] * y[i];
-    }
-    const a = sff > 0 ? sfy / sff : 0;
-    return { a, cost: syy - a * sfy };
-  };
-  const G = 200;
-  const lo = Math.log(lower);
-  const hi = Math.log(upper);
-  let best = 0;
-  let bestCost = Infinity;
-  const grid = Array.from({ length: G + 1 }, (_, k) => lo + ((hi - lo) * k) / G);
-  grid.forEach((x, k) => {
-    const c = profile(x).cost;
-    if (c < bestCost) {
-      bestCost = c;
-      best = k;
-    }
-  });
-  let a0 = grid[Math.max(0, best - 1)];
-  let b0 = grid[Math.min(G, best + 1)];
-  const phi = (Math.sqrt(5) - 1) / 2;
-  let x1 = b0 - phi * (b0 - a0);
-  let x2 = a0 + phi * (b0 - a0);
-  let f1 = profile(x1).cost;
-  let f2 = profile(x2).cost;
-  for (let i = 0; i < 200 && b0 - a0 > 1e-12; i++) {
-    if (f1 < f2) {
-      b0 = x2;
-      x2 = x1;
-      f2 = f1;
-      x1 = b0 - phi * (b0 - a0);
-      f1 = profile(x1).cost;
-    } else {
-      a0 = x1;
-      x1 = x2;
-      f1 = f2;
-      x2 = a0 + phi * (b0 - a0);
-      f2 = profile(x2).cost;
-    }
-  }
-  const lnTau = 0.5 * (a0 + b0);
-  const tau = Math.exp(lnTau);
-  const { a } = profile(lnTau);
-  const onBound = tau <= (1 + BOUND_MARGIN) * lower || tau >= (1 - BOUND_MARGIN) * upper;
-  const finite = Number.isFinite(a) && Number.isFinite(tau);
-  return {
-    A: a / tau,
-    alpha: 1,
-    tau1: tau,
-    tau2: tau,
-    limit: a,
-    converged: finite && !onBound,
-    message: !finite ? 'fit parameters not finite' : onBound ? 'the time constant sits on a bound' : 'minimum inside the bounds',
-    tauBounds: { lower, upper },
-  };
-}
-
-// ---------------------------------------------------------------------------------------------
-// Helfand moment
-
-/** Work array for the Helfand moment G (reused: fresh memory is expensive to touch). */
-let helfandWork: Float64Array | null = null;
-
-/**
- * Mean-squared Helfand moment M(k) = ⟨(G_{i+k} − G_i)²⟩ over all origins i of one series, with
- * G_i = dt Σ_{j<i} x_j (i = 0 … n) (Helfand, Phys. Rev. 119, 1 (1960)). Uses
- * M(k) = [Σ_{i=0}^{L−1−k} (G_i² + G_{i+k}²)]/(L−k) − 2 C_GG(k), L = n + 1 (G centred first, which
- * leaves every difference unchanged), with C_GG the unbiased autocorrelation of G by FFT
- * (src/correlate.ts, which picks the cheapest transform layout for the lag range).
- * Units: x² · ps².
- */
-export function helfandMsd(x: Float64Array, dt: number, maxLag: number): Float64Array {
-  const L = x.length + 1;
-  if (!Number.isInteger(maxLag) || maxLag < 0 || maxLag > L - 1) throw new UsageError(`helfandMsd: maxLag ${maxLag} must be an integer in [0, ${L - 1}]`);
-  if (!helfandWork || helfandWork.length < L) helfandWork = new Float64Array(L);
-  const G = helfandWork.subarray(0, L);
-  let s = 0;
-  G[0] = 0;
-  for (let i = 0; i < x.length; i++) {
-    s += x[i] * dt;
-    G[i + 1] = s;
-  }
-  // ΔG is unchanged by a constant shift: centre G to keep S − 2C well conditioned.
-  let gm = 0;
-  for (let i = 0; i < L; i++) gm += G[i];
-  gm /= L;
-  for (let i = 0; i < L; i++) G[i] -= gm;
-  const cgg = autocorrelation(G, { maxLag });
-  // Σ_{i=0}^{L-1-k} G_i² = total − (sum of the last k squares); Σ_{i=k}^{L-1} G_i² = total − (first k).
-  let total = 0;
-  for (let i = 0; i < L; i++) total += G[i] * G[i];
-  const out = new Float64Array(maxLag + 1);
-  let first = 0;
-  let last = 0;
-  for (let k = 0; k <= maxLag; k++) {
-    if (k > 0) {
-      first += G[k - 1] * G[k - 1];
-      last += G[L - k] * G[L - k];
-    }
-    out[k] = Math.max(0, (total - last + (total - first)) / (L - k) - 2 * cgg[k]);
-  }
-  out[0] = 0;
-  return out;
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -941,25 +408,31 @@ export function unitRunningIntegral(values: Float64Array, s: number, m: number, 
   // transform layout: for long segments, blocks that stay in the CPU caches).
   const acf = autocorrelation(seg, { maxLag });
   const out = new Float64Array(maxLag + 1);
-  runningIntegral(acf, dt, pref, out);
+  cumulativeTrapezoid(acf, dt, pref, out);
   return out;
 }
 
-/**
- * Viscosity by Green–Kubo with the time-decomposition method plus the Helfand cross-check (all
- * methods and rules in the module comment). Never returns a bare number: when a rule fails,
- * `converged` is false and `reasons` says why.
- */
-export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
-  const { components, dt } = input;
-  const plan = planViscosity(input);
-  const { n, nc, pref, fraction, tc, N, m, maxLag } = plan;
-  const { reasons, notes } = plan;
+/** The running integrals of every (segment, component) unit and their pooled statistics. */
+interface UnitStatistics {
+  /** Unit curves in single precision (for the jackknife and the plateau test), segment-major. */
+  unitCurves: Float32Array[];
+  /** Per component: Σ and Σ² over the segments of the running integral at each lag. */
+  compSum: Float64Array[];
+  compSq: Float64Array[];
+  /** η̄(t) over all units and σ(t), the spread of one segment's component-averaged curve. */
+  mean: Float64Array;
+  sigma: Float64Array;
+  time: Float64Array;
+}
 
-  // 3. Running integrals: one per (segment, component) "unit". In an isotropic fluid the
-  // components are equivalent and mutually uncorrelated (module comment), so the N·c unit
-  // curves are independent estimates of η(t); pooling them makes σ(t) far less noisy than the
-  // spread of only N segment averages. Unit curves are kept in single precision (jackknife).
+/**
+ * Step 3 of the analysis: running integrals, one per (segment, component) "unit". In an isotropic
+ * fluid the components are equivalent and mutually uncorrelated (module comment), so the N·c unit
+ * curves are independent estimates of η(t); pooling them makes σ(t) far less noisy than the
+ * spread of only N segment averages: σ(t) = SD_unit(t)/√c.
+ */
+function unitStatistics(components: ShearSeries[], plan: ViscosityPlan, dt: number): UnitStatistics {
+  const { nc, pref, N, m, maxLag } = plan;
   const L = maxLag + 1;
   const U = N * nc;
   const unitCurves: Float32Array[] = [];
@@ -994,7 +467,37 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   }
   const time = new Float64Array(L);
   for (let k = 0; k < L; k++) time[k] = k * dt;
+  return { unitCurves, compSum, compSq, mean, sigma, time };
+}
 
+/** The fitted running integral: model, long-time limit and its jackknife uncertainty. */
+interface RunningIntegralFit {
+  /** Cut-off index and whether σ(t) reached the cut-off fraction. */
+  kCut: number;
+  cutReached: boolean;
+  /** Fitted times (thinned), ps. */
+  ft: number[];
+  /** σ(t) = A t^b. */
+  b: number;
+  sigmaA: number;
+  fit: DoubleExponentialFit | null;
+  model: 'double exponential' | 'single exponential';
+  rejected: string | null;
+  eta: number;
+  etaErr: number | null;
+  plateau: number;
+  fitCurve: Float64Array;
+}
+
+/**
+ * Steps 4–5 of the analysis: the cut-off, the σ(t) power law, the weighted double-exponential fit
+ * of η̄(t) (replaced by the single exponential when it is not determined by the data), the plateau
+ * checks and the jackknife over the units. Reasons and notes go to the plan's lists.
+ */
+function fitRunningIntegral(st: UnitStatistics, plan: ViscosityPlan, dt: number): RunningIntegralFit {
+  const { fraction, m, maxLag, reasons, notes } = plan;
+  const { mean, sigma, time } = st;
+  const L = maxLag + 1;
   // 4. Cut-off and σ(t) power law.
   const cut = cutoffIndex(mean, sigma, fraction);
   const kCut = cut.index;
@@ -1018,17 +521,71 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   // 5. Weighted double-exponential fit; jackknife over the units.
   const ft = fitIdx.map((k) => time[k]);
   const fw = ft.map((t) => 1 / Math.pow(t, b));
+  const fy = fitIdx.map((k) => mean[k]);
+  const { fit, model, rejected } = chooseModel(ft, fy, fw, reasons, notes);
+  const refit = (y: number[], start: DoubleExponentialFit) =>
+    model === 'single exponential' ? fitSingleExponential(ft, y, fw) : fitDoubleExponential(ft, y, fw, start);
+  let eta = NaN;
+  let etaErr: number | null = null;
+  let plateau = NaN;
+  const fitCurve = new Float64Array(L).fill(NaN);
+  if (fit) {
+    eta = fit.limit;
+    if (!fit.converged) reasons.push(`the ${model} fit did not converge (${fit.message})`);
+    for (let k = 0; k < L; k++) fitCurve[k] = doubleExponential(time[k], fit);
+    plateau = doubleExponential(time[kCut], fit) / fit.limit;
+    if (!(Math.abs(1 - plateau) <= PLATEAU_TOLERANCE)) {
+      reasons.push(
+        `no plateau: at the cut-off (${(kCut * dt).toPrecision(4)} ps) the fitted running integral is ${(100 * plateau).toFixed(0)} % of its long-time limit ` +
+          `(slow time τ₂ = ${fit.tau2.toPrecision(3)} ps); the limit is an extrapolation`,
+      );
+    }
+    if (!(eta > 0)) reasons.push('the fitted long-time limit is not positive');
+    const rise = plateauRise(st.unitCurves, kCut);
+    if (rise && rise.mean > 3 * rise.standardError && rise.mean > PLATEAU_TOLERANCE * Math.abs(eta)) {
+      reasons.push(
+        `no plateau: over the second half of the window (${((kCut >> 1) * dt).toPrecision(3)}–${(kCut * dt).toPrecision(3)} ps) the running integral ` +
+          `still rises by ${((100 * rise.mean) / Math.abs(eta)).toFixed(0)} % of η (${(rise.mean / rise.standardError).toFixed(1)} standard errors): the correlation has not decayed`,
+      );
+    }
+    const U = st.unitCurves.length;
+    const jack: number[] = [];
+    for (let u = 0; u < U; u++) {
+      const y = fitIdx.map((k) => (U * mean[k] - st.unitCurves[u][k]) / (U - 1));
+      try {
+        const f = refit(y, fit);
+        if (Number.isFinite(f.limit)) jack.push(f.limit);
+      } catch {
+        /* counted below */
+      }
+    }
+    if (jack.length === U) etaErr = jackknifeStandardError(jack);
+    else reasons.push(`the jackknife refit failed for ${U - jack.length} of ${U} estimates: no uncertainty`);
+  }
+  return { kCut, cutReached: cut.reached, ft, b, sigmaA, fit, model, rejected, eta, etaErr, plateau, fitCurve };
+}
+
+/**
+ * The fitted model: the double exponential, or — when a time constant sits on its bound or α lies
+ * outside [0, 1] (`doubleExponentialProblem`), so that the data do not support two decaying
+ * relaxations — the single exponential, the α = 1 case of the same model, when it fits inside
+ * its bounds. Failures are reasons; the switch is a note.
+ */
+function chooseModel(
+  ft: number[],
+  fy: number[],
+  fw: number[],
+  reasons: string[],
+  notes: string[],
+): { fit: DoubleExponentialFit | null; model: 'double exponential' | 'single exponential'; rejected: string | null } {
   let fit: DoubleExponentialFit | null = null;
   let model: 'double exponential' | 'single exponential' = 'double exponential';
   let rejected: string | null = null;
-  const fy = fitIdx.map((k) => mean[k]);
   try {
     fit = fitDoubleExponential(ft, fy, fw);
   } catch (e) {
     reasons.push(`the double-exponential fit failed: ${(e as Error).message}`);
   }
-  // A time constant on its bound or α outside [0, 1]: the data do not support two decaying
-  // relaxations; fall back to one (the α = 1 case of the same model).
   const problem = fit ? doubleExponentialProblem(fit) : null;
   if (fit && problem) {
     rejected = problem;
@@ -1052,60 +609,26 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
       );
     }
   }
-  const refit = (y: number[], start: DoubleExponentialFit) =>
-    model === 'single exponential' ? fitSingleExponential(ft, y, fw) : fitDoubleExponential(ft, y, fw, start);
-  let eta = NaN;
-  let etaErr: number | null = null;
-  let plateau = NaN;
-  const fitCurve = new Float64Array(L).fill(NaN);
-  if (fit) {
-    eta = fit.limit;
-    if (!fit.converged) reasons.push(`the ${model} fit did not converge (${fit.message})`);
-    for (let k = 0; k < L; k++) fitCurve[k] = doubleExponential(time[k], fit);
-    plateau = doubleExponential(time[kCut], fit) / fit.limit;
-    if (!(Math.abs(1 - plateau) <= PLATEAU_TOLERANCE)) {
-      reasons.push(
-        `no plateau: at the cut-off (${(kCut * dt).toPrecision(4)} ps) the fitted running integral is ${(100 * plateau).toFixed(0)} % of its long-time limit ` +
-          `(slow time τ₂ = ${fit.tau2.toPrecision(3)} ps); the limit is an extrapolation`,
-      );
-    }
-    if (!(eta > 0)) reasons.push('the fitted long-time limit is not positive');
-    const rise = plateauRise(unitCurves, kCut);
-    if (rise && rise.mean > 3 * rise.standardError && rise.mean > PLATEAU_TOLERANCE * Math.abs(eta)) {
-      reasons.push(
-        `no plateau: over the second half of the window (${((kCut >> 1) * dt).toPrecision(3)}–${(kCut * dt).toPrecision(3)} ps) the running integral ` +
-          `still rises by ${((100 * rise.mean) / Math.abs(eta)).toFixed(0)} % of η (${(rise.mean / rise.standardError).toFixed(1)} standard errors): the correlation has not decayed`,
-      );
-    }
-    const jack: number[] = [];
-    for (let u = 0; u < U; u++) {
-      const y = fitIdx.map((k) => (U * mean[k] - unitCurves[u][k]) / (U - 1));
-      try {
-        const f = refit(y, fit);
-        if (Number.isFinite(f.limit)) jack.push(f.limit);
-      } catch {
-        /* counted below */
-      }
-    }
-    if (jack.length === U) {
-      const jm = jack.reduce((acc, v) => acc + v, 0) / U;
-      etaErr = Math.sqrt(((U - 1) / U) * jack.reduce((acc, v) => acc + (v - jm) ** 2, 0));
-    } else {
-      reasons.push(`the jackknife refit failed for ${U - jack.length} of ${U} estimates: no uncertainty`);
-    }
-  }
+  return { fit, model, rejected };
+}
 
-  // 6. Per-component values at the cut-off (mean and standard error over the segments).
-  const comps = components.map((c, ci) => {
-    const mu = compSum[ci][kCut] / N;
-    const sd = Math.sqrt(Math.max(0, (compSq[ci][kCut] - N * mu * mu) / (N - 1)));
-    return { name: c.name, meanRemoved: c.mean, runningIntegralEnd: quantity(mu, sd / Math.sqrt(N), 'Pa s') };
-  });
-
-  // 7. Helfand cross-check, per unit.
+/**
+ * Step 7 of the analysis: the Einstein–Helfand cross-check per unit, over the window from the
+ * time the fit reaches 95 % of its limit (or 5 correlation times) to the cut-off (at least 3× its
+ * start); its mean and standard error over the units. Notes go to the plan's list.
+ */
+function helfandCrossCheck(
+  components: ShearSeries[],
+  plan: ViscosityPlan,
+  dt: number,
+  g: RunningIntegralFit,
+  time: Float64Array,
+): { helfand: Quantity | null; helfandWindow: ViscosityResult['helfandWindow'] } {
+  const { pref, tc, N, m, maxLag, notes } = plan;
+  const { fit, eta, etaErr, kCut } = g;
   let helfand: Quantity | null = null;
   let helfandWindow: ViscosityResult['helfandWindow'] = null;
-  const startTime = fit && fit.converged && eta > 0 ? t95(fit, time[kCut]) : 5 * tc.tau;
+  const startTime = fit && fit.converged && eta > 0 ? doubleExponentialRiseTime(fit, 0.95, time[kCut]) : 5 * tc.tau;
   const hFrom = Math.max(1, Math.ceil(startTime / dt));
   const hTo = Math.min(maxLag - 1, Math.max(kCut, 3 * hFrom));
   if (hTo - hFrom >= 4) {
@@ -1129,6 +652,36 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   } else {
     notes.push('no room for a Helfand fit window between the decay of the correlation and the cut-off');
   }
+  return { helfand, helfandWindow };
+}
+
+/**
+ * Viscosity by Green–Kubo with the time-decomposition method plus the Helfand cross-check (all
+ * methods and rules in the module comment). Never returns a bare number: when a rule fails,
+ * `converged` is false and `reasons` says why.
+ */
+export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
+  const { components, dt } = input;
+  const plan = planViscosity(input);
+  const { n, nc, fraction, tc, N, m, maxLag } = plan;
+  const { reasons, notes } = plan;
+  const U = N * nc;
+
+  // 3. Running integrals; 4–5. cut-off, fit and jackknife.
+  const st = unitStatistics(components, plan, dt);
+  const { mean, sigma, time } = st;
+  const g = fitRunningIntegral(st, plan, dt);
+  const { kCut, ft, fit, model, eta, etaErr, fitCurve } = g;
+
+  // 6. Per-component values at the cut-off (mean and standard error over the segments).
+  const comps = components.map((c, ci) => {
+    const mu = st.compSum[ci][kCut] / N;
+    const sd = Math.sqrt(Math.max(0, (st.compSq[ci][kCut] - N * mu * mu) / (N - 1)));
+    return { name: c.name, meanRemoved: c.mean, runningIntegralEnd: quantity(mu, sd / Math.sqrt(N), 'Pa s') };
+  });
+
+  // 7. Helfand cross-check, per unit.
+  const { helfand, helfandWindow } = helfandCrossCheck(components, plan, dt, g, time);
 
   // 8. Report.
   const rIdx = thinIndices(0, maxLag, MAX_REPORT_POINTS);
@@ -1144,7 +697,7 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
     runningIntegral: { time: pick(time), eta: pick(mean), sigma: pick(sigma), fit: pick(fitCurve) },
     cutoffTime: quantity(kCut * dt, null, 'ps'),
     cutoffFraction: fraction,
-    cutoffReached: cut.reached,
+    cutoffReached: g.cutReached,
     fitWindow: { from: ft[0], to: ft[ft.length - 1], unit: 'ps' },
     components: comps,
     weighting:
@@ -1153,15 +706,15 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
         : `equal weights (1/${nc}) over the available components ${components.map((c) => c.name).join(', ')}`,
     fit: {
       model,
-      rejectedDoubleExponential: rejected,
+      rejectedDoubleExponential: g.rejected,
       A: quantity(fit ? fit.A : NaN, null, 'Pa s/ps'),
       alpha: fit ? fit.alpha : NaN,
       tau1: quantity(fit ? fit.tau1 : NaN, null, 'ps'),
       tau2: quantity(fit ? fit.tau2 : NaN, null, 'ps'),
-      b,
-      sigmaPrefactor: sigmaA,
+      b: g.b,
+      sigmaPrefactor: g.sigmaA,
       converged: fit ? fit.converged : false,
-      plateauReached: plateau,
+      plateauReached: g.plateau,
     },
     helfand,
     helfandWindow,
@@ -1188,18 +741,4 @@ export function plateauRise(segmentCurves: ReadonlyArray<ArrayLike<number>>, k: 
   if (segmentCurves.length < 2 || k < 2) return null;
   const st = blockStatistics(Array.from(segmentCurves, (c) => c[k] - c[k >> 1]));
   return { mean: st.mean, standardError: st.standardError };
-}
-
-/** Time at which the fitted double exponential reaches 95 % of its limit (bisection on [0, tMax]). */
-function t95(fit: DoubleExponential, tMax: number): number {
-  const lim = doubleExponentialLimit(fit);
-  let lo = 0;
-  let hi = tMax;
-  if (doubleExponential(hi, fit) < 0.95 * lim) return hi;
-  for (let i = 0; i < 60; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (doubleExponential(mid, fit) < 0.95 * lim) lo = mid;
-    else hi = mid;
-  }
-  return hi;
 }

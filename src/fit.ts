@@ -1,7 +1,9 @@
 /**
- * Straight-line fits and the fit-window rules used by every transport coefficient that comes
- * from the slope of a mean-squared-displacement-like curve (MSD, Einstein–Helfand), plus the
- * block (independent segment) standard error that gives those coefficients their uncertainty.
+ * The fit-window rules used by every transport coefficient that comes from the slope of a
+ * mean-squared-displacement-like curve (MSD, Einstein–Helfand) or from the plateau of a running
+ * integral (VACF, Green–Kubo), and the segments that give those coefficients their uncertainty.
+ * The generic numerics they rest on (line fit, log-log slope, block standard error, Student's t,
+ * trapezoid rule) live in src/numerics/.
  *
  * Rules, stated once here and repeated in the outputs:
  * - Diffusive window (automatic): among the lags 1 … ⌊f_max·(T−1)⌋ (f_max = 0.5 by default: past
@@ -25,12 +27,17 @@
  *   from 5 segments on it is the plain standard error (`segmentUncertaintyFactor`).
  * - Sampling: a correlation function integrated by the trapezoid rule must not lose more than
  *   half of its value within one sample interval (`correlationSamplingProblem`); for an
- *   exponential decay the trapezoid integral is then at most 4 % too large (closed form below).
+ *   exponential decay the trapezoid integral is then at most 4 % too large (closed form in
+ *   src/numerics/trapezoid.ts).
  * - Plateau drift: after the plateau of a running integral is chosen, the integral over the lags
  *   after it (up to 3× the plateau end, inside a segment) must stay within the segment-based
  *   uncertainty of the change (`plateauDriftCheck`); otherwise "running integral keeps drifting".
  */
 import { UsageError } from './errors.js';
+import { blockStatistics } from './numerics/block-statistics.js';
+import { logLogSlopes } from './numerics/log-slope.js';
+import { ONE_SIGMA_LEVEL, studentTQuantile } from './numerics/student-t.js';
+import { trapezoidExponentialBias } from './numerics/trapezoid.js';
 
 /** Default tolerance on |d ln y/d ln t − 1| for the automatic diffusive window. */
 export const DEFAULT_SLOPE_TOLERANCE = 0.1;
@@ -42,107 +49,6 @@ export const DEFAULT_SEGMENTS = 5;
 export const MIN_SEGMENTS = 3;
 /** Fewest lags a fit window must hold. */
 export const MIN_WINDOW_POINTS = 8;
-/** Ratio between the two lags the local log-log slope is taken between (t/r and r·t). */
-export const LOG_SLOPE_STENCIL = 1.25;
-
-/** Result of a straight-line fit y = intercept + slope·x. */
-export interface LineFit {
-  slope: number;
-  intercept: number;
-  /** Standard error of the slope (from the residuals, or from the weights). */
-  slopeError: number;
-  interceptError: number;
-  /** Number of points used. */
-  points: number;
-}
-
-/**
- * Least-squares line y = a + b x over the points i ∈ [from, to] (inclusive).
- * Unweighted: b = S_xy/S_xx, a = ȳ − b x̄, s² = Σr²/(n−2), σ_b = s/√S_xx,
- * σ_a = s √(1/n + x̄²/S_xx). Weighted (w_i = 1/σ_i²): Δ = S·S_xx − S_x², b = (S·S_xy − S_x S_y)/Δ,
- * a = (S_xx S_y − S_x S_xy)/Δ, σ_b = √(S/Δ), σ_a = √(S_xx/Δ) (Press et al., Numerical Recipes,
- * 3rd ed. (2007), §15.2). Needs at least 3 points (2 when weighted) and distinct x.
- */
-export function fitLine(
-  x: ArrayLike<number>,
-  y: ArrayLike<number>,
-  opts: { from?: number; to?: number; weights?: ArrayLike<number> } = {},
-): LineFit {
-  const from = opts.from ?? 0;
-  const to = opts.to ?? x.length - 1;
-  const n = to - from + 1;
-  const w = opts.weights;
-  if (!(n >= (w ? 2 : 3))) throw new RangeError(`fitLine: need at least ${w ? 2 : 3} points, got ${n}`);
-  if (w) {
-    let s = 0, sx = 0, sy = 0, sxx = 0, sxy = 0;
-    for (let i = from; i <= to; i++) {
-      const wi = w[i];
-      s += wi;
-      sx += wi * x[i];
-      sy += wi * y[i];
-      sxx += wi * x[i] * x[i];
-      sxy += wi * x[i] * y[i];
-    }
-    const delta = s * sxx - sx * sx;
-    if (!(delta > 0)) throw new RangeError('fitLine: x values do not vary');
-    return {
-      slope: (s * sxy - sx * sy) / delta,
-      intercept: (sxx * sy - sx * sxy) / delta,
-      slopeError: Math.sqrt(s / delta),
-      interceptError: Math.sqrt(sxx / delta),
-      points: n,
-    };
-  }
-  let mx = 0, my = 0;
-  for (let i = from; i <= to; i++) {
-    mx += x[i];
-    my += y[i];
-  }
-  mx /= n;
-  my /= n;
-  let sxx = 0, sxy = 0;
-  for (let i = from; i <= to; i++) {
-    const dx = x[i] - mx;
-    sxx += dx * dx;
-    sxy += dx * (y[i] - my);
-  }
-  if (!(sxx > 0)) throw new RangeError('fitLine: x values do not vary');
-  const slope = sxy / sxx;
-  const intercept = my - slope * mx;
-  let rss = 0;
-  for (let i = from; i <= to; i++) {
-    const r = y[i] - intercept - slope * x[i];
-    rss += r * r;
-  }
-  const s2 = rss / (n - 2);
-  return {
-    slope,
-    intercept,
-    slopeError: Math.sqrt(s2 / sxx),
-    interceptError: Math.sqrt(s2 * (1 / n + (mx * mx) / sxx)),
-    points: n,
-  };
-}
-
-/**
- * Local log-log slope β_i = [ln y(j₂) − ln y(j₁)] / [ln t(j₂) − ln t(j₁)] with
- * j₁ = max(1, min(i−1, ⌊i/r⌋)) and j₂ = min(n−1, max(i+1, ⌈r·i⌉)), r = LOG_SLOPE_STENCIL
- * (a centred difference on a logarithmic grid; common practice, no source). NaN at i = 0,
- * where y or t is not positive, and where no distinct neighbours exist.
- */
-export function logLogSlopes(time: ArrayLike<number>, y: ArrayLike<number>, stencil = LOG_SLOPE_STENCIL): Float64Array {
-  const n = Math.min(time.length, y.length);
-  const out = new Float64Array(n).fill(NaN);
-  for (let i = 1; i < n; i++) {
-    const j1 = Math.max(1, Math.min(i - 1, Math.floor(i / stencil)));
-    const j2 = Math.min(n - 1, Math.max(i + 1, Math.ceil(i * stencil)));
-    if (j2 <= j1) continue;
-    const y1 = y[j1], y2 = y[j2], t1 = time[j1], t2 = time[j2];
-    if (!(y1 > 0 && y2 > 0 && t1 > 0 && t2 > t1)) continue;
-    out[i] = Math.log(y2 / y1) / Math.log(t2 / t1);
-  }
-  return out;
-}
 
 /** A fit window as inclusive lag indices. */
 export interface LagWindow {
@@ -233,31 +139,6 @@ export function windowFromTimes(fromPs: number, toPs: number, dt: number, frames
     throw new UsageError(`fit window ${fromPs}–${toPs} ps holds only ${Math.max(0, to - from + 1)} lag(s) of ${dt} ps; need at least 3`);
   }
   return { from, to };
-}
-
-/** Mean, sample standard deviation and standard error of independent block values. */
-export interface BlockStatistics {
-  mean: number;
-  sd: number;
-  /** sd/√n. */
-  standardError: number;
-  count: number;
-}
-
-/**
- * Standard error over independent blocks: mean x̄ = Σx_k/M, s² = Σ(x_k − x̄)²/(M−1),
- * SE = s/√M (Frenkel & Smit, Understanding Molecular Simulation, 2nd ed., §4.4.1). Needs M ≥ 2.
- */
-export function blockStatistics(values: ArrayLike<number>): BlockStatistics {
-  const m = values.length;
-  if (m < 2) throw new RangeError(`blockStatistics: need at least 2 blocks, got ${m}`);
-  let s = 0;
-  for (let i = 0; i < m; i++) s += values[i];
-  const mean = s / m;
-  let ss = 0;
-  for (let i = 0; i < m; i++) ss += (values[i] - mean) ** 2;
-  const sd = Math.sqrt(ss / (m - 1));
-  return { mean, sd, standardError: sd / Math.sqrt(m), count: m };
 }
 
 /** How the run is cut into segments for the uncertainty, and the window they share. */
@@ -395,68 +276,8 @@ export function segmentedDiffusiveWindow(
   };
 }
 
-/** Φ(1) = 0.841344746…: probability that a standard normal variable is below 1 (one-sigma level). */
-export const ONE_SIGMA_LEVEL = 0.8413447460685429;
 /** From this many segments on, the plain standard error is given (below: Student-t widened). */
 export const FULL_CONFIDENCE_SEGMENTS = 5;
-
-/**
- * Cumulative distribution of Student's t with ν (integer ≥ 1) degrees of freedom, by the finite
- * series of Abramowitz & Stegun, Handbook of Mathematical Functions (1964), 26.7.3 (ν odd) and
- * 26.7.4 (ν even): with θ = arctan(|t|/√ν), A(t|ν) = P(|T| ≤ |t|) =
- * (2/π)[θ + sin θ (cos θ + (2/3)cos³θ + … + (2·4···(ν−3))/(1·3···(ν−2)) cos^{ν−2}θ)] for odd ν
- * (the bracket's series empty for ν = 1), sin θ [1 + (1/2)cos²θ + … + (1·3···(ν−3))/(2·4···(ν−2))
- * cos^{ν−2}θ] for even ν; F(t) = (1 ± A)/2.
- */
-export function studentTCdf(t: number, dof: number): number {
-  if (!(Number.isInteger(dof) && dof >= 1)) throw new RangeError(`studentTCdf: degrees of freedom must be a whole number ≥ 1, got ${dof}`);
-  if (t === Infinity) return 1;
-  if (t === -Infinity) return 0;
-  const theta = Math.atan(Math.abs(t) / Math.sqrt(dof));
-  const s = Math.sin(theta);
-  const c2 = Math.cos(theta) ** 2;
-  let A: number;
-  if (dof % 2 === 1) {
-    let sum = 0;
-    if (dof > 1) {
-      let term = Math.cos(theta);
-      sum = term;
-      for (let j = 3; j <= dof - 2; j += 2) {
-        term *= ((j - 1) / j) * c2;
-        sum += term;
-      }
-    }
-    A = (2 / Math.PI) * (theta + s * sum);
-  } else {
-    let term = 1;
-    let sum = 1;
-    for (let j = 2; j <= dof - 2; j += 2) {
-      term *= ((j - 1) / j) * c2;
-      sum += term;
-    }
-    A = s * sum;
-  }
-  return t >= 0 ? 0.5 * (1 + A) : 0.5 * (1 - A);
-}
-
-/**
- * Quantile t_{p,ν} of Student's t (F(t_{p,ν}) = p, 0 < p < 1, integer ν ≥ 1): bisection on the
- * exact CDF `studentTCdf` to 1e-13 relative (Abramowitz & Stegun 26.7.3–4).
- */
-export function studentTQuantile(p: number, dof: number): number {
-  if (!(p > 0 && p < 1)) throw new RangeError(`studentTQuantile: p must lie in (0, 1), got ${p}`);
-  if (p < 0.5) return -studentTQuantile(1 - p, dof);
-  if (p === 0.5) return 0;
-  let hi = 1;
-  while (studentTCdf(hi, dof) < p) hi *= 2;
-  let lo = 0;
-  for (let i = 0; i < 200 && hi - lo > 1e-13 * hi; i++) {
-    const mid = 0.5 * (lo + hi);
-    if (studentTCdf(mid, dof) < p) lo = mid;
-    else hi = mid;
-  }
-  return 0.5 * (lo + hi);
-}
 
 /**
  * Factor applied to a standard error over M independent segments: t_{Φ(1), M−1} (Student's t
@@ -612,31 +433,8 @@ export function windowMean(values: ArrayLike<number>, w: LagWindow): number {
   return s / (w.to - w.from + 1);
 }
 
-/**
- * Cumulative trapezoid integral: I(0) = 0, I(m) = I(m−1) + Δt·(y(m−1) + y(m))/2 (trapezoidal rule,
- * e.g. Press et al., Numerical Recipes, 3rd ed., §4.1).
- */
-export function cumulativeTrapezoid(y: ArrayLike<number>, dt: number): Float64Array {
-  const out = new Float64Array(y.length);
-  for (let m = 1; m < y.length; m++) out[m] = out[m - 1] + 0.5 * dt * (y[m - 1] + y[m]);
-  return out;
-}
-
 /** Smallest C(Δt)/C(0) of a correlation sampled every Δt that is integrated by the trapezoid rule without a flag. */
 export const CORRELATION_SAMPLING_RATIO = 0.5;
-
-/**
- * Relative overestimate of the trapezoid integral of an exponential decay C(t) = C(0)e^{−t/τ}
- * sampled every h, as a function of r = C(h)/C(0) = e^{−h/τ}: the trapezoid sum over all steps is
- * h(1/2 + r/(1 − r)) = (h/2)(1 + r)/(1 − r) against the exact τ = −h/ln r (geometric series), a
- * ratio x·coth(x) with x = −ln(r)/2 — the same for every step, hence for the whole integral.
- * Returns x·coth(x) − 1 (closed form; e.g. 1.5 ln 2 − 1 = 0.0397 at r = 0.5, 1.38 at r = 0.0094).
- */
-export function trapezoidExponentialBias(r: number): number {
-  if (!(r > 0 && r < 1)) return r === 1 ? 0 : NaN;
-  const x = -Math.log(r) / 2;
-  return x / Math.tanh(x) - 1;
-}
 
 /**
  * Whether a correlation function c (c[0] at lag 0, c[1] one sample interval `dt` ps later) is

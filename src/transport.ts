@@ -8,6 +8,7 @@ import { BOLTZMANN, ELEMENTARY_CHARGE, FARADAY, GAS_CONSTANT, CUBIC_ANGSTROM, AN
 import { quantity, type Quantity } from './types.js';
 import { UsageError } from './errors.js';
 import { crystalRadius, SHANNON_RADII, type IonRadius } from './radii.js';
+import { productUncertainty, type ProductTerm } from './numerics/propagation.js';
 
 /**
  * ξ of the cubic periodic lattice in the Yeh–Hummer correction, 2.837297 (Yeh & Hummer,
@@ -118,58 +119,6 @@ export const WALDEN_SI_TO_CONVENTIONAL = 1e5;
 /** Walden product from SI (S m^2 Pa s / mol) into S cm^2 mol^-1 P: multiply by 10^5. */
 export function waldenToConventional(waldenSI: number): number {
   return waldenSI * WALDEN_SI_TO_CONVENTIONAL;
-}
-
-/**
- * One factor x^p of a product, with its standard uncertainty. "Unknown" and "exact" are kept
- * apart: `uncertainty: null` means the uncertainty could not be estimated (an unconverged
- * analysis, say) unless `exact` is set; `exact: true` means the factor has no uncertainty at all
- * (a defined constant, or a number the user gave without ± and asked to be taken as exact).
- */
-export interface ProductTerm {
-  value: number;
-  /** Standard uncertainty u(x); null = unknown, unless `exact` is true. */
-  uncertainty: number | null;
-  /** The factor is exact: it contributes nothing and its `uncertainty` is not read. */
-  exact?: boolean;
-  /** Exponent p (default 1; −1 for a divisor). */
-  power?: number;
-}
-
-/** True when a factor's uncertainty is unknown: null and not marked exact (see `ProductTerm`). */
-export function uncertaintyUnknown(t: Pick<ProductTerm, 'uncertainty' | 'exact'>): boolean {
-  return t.exact !== true && t.uncertainty === null;
-}
-
-/**
- * Relative standard uncertainty of a product of independent factors Π x_i^p_i, to first order:
- * u_r = √(Σ_i (p_i u(x_i)/x_i)²) (JCGM 100:2008, GUM, eq. 12). Multiply by |product| for the
- * absolute uncertainty. Exact factors (`exact: true`) contribute nothing. When any factor's
- * uncertainty is unknown (null and not exact) the product's is unknown too and the result is NaN
- * — never a smaller number computed from the other factors alone; NaN stays NaN through any
- * arithmetic, prints without "±" and is written as null in JSON. `productUncertainty` returns
- * null instead.
- */
-export function relativeErrorProduct(terms: readonly ProductTerm[]): number {
-  let sq = 0;
-  for (const t of terms) {
-    if (t.exact === true) continue;
-    if (t.uncertainty === null) return NaN;
-    if (t.uncertainty === 0) continue;
-    const r = ((t.power ?? 1) * t.uncertainty) / t.value;
-    sq += r * r;
-  }
-  return Math.sqrt(sq);
-}
-
-/**
- * Absolute standard uncertainty |y|·u_r of y = Π x_i^p_i (u_r from `relativeErrorProduct`, GUM
- * eq. 12), or null when any factor's uncertainty is unknown. Exact factors contribute nothing, so
- * a product of exact factors has uncertainty 0.
- */
-export function productUncertainty(value: number, terms: readonly ProductTerm[]): number | null {
-  if (terms.some(uncertaintyUnknown)) return null;
-  return Math.abs(value) * relativeErrorProduct(terms);
 }
 
 // ---------------------------------------------------------------------------------------------

@@ -15,13 +15,11 @@ import {
   conductivityPass,
   einsteinHelfandFromSlope,
   parseChargeRules,
-  ratioWithUncertainty,
   atomCharges,
   chargeLayout,
   type ConductivityPassOptions,
   type ConductivityResult,
 } from '../analyses/conductivity.js';
-import { quantity } from '../src/types.js';
 
 const relDiff = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 
@@ -99,14 +97,6 @@ describe('pure conversions', () => {
     // Hand computation: N_A·V = 6.02214076e23 · 2.7e-26 m³ = 0.016259780; 100/0.016259780 =
     // 6150.145 mol/m³ = 6.150 mol/L. Tolerance 1e-6 relative (7 figures kept).
     expect(relDiff(concentrationMolPerM3(100, 27000), 6150.145)).toBeLessThan(1e-6);
-  });
-
-  it('ratio uncertainty adds relative uncertainties in quadrature', () => {
-    // Truth: JCGM 100:2008 (GUM) eq. 12 for a quotient of independent inputs: 3% and 4% relative
-    // give 5% (3-4-5 triangle); 2/4 = 0.5 ± 0.025. Tolerance 1e-12: arithmetic only.
-    const r = ratioWithUncertainty(quantity(2, 0.06, 'S/m'), quantity(4, 0.16, 'S/m'), '1');
-    expect(Math.abs(r.value - 0.5)).toBeLessThan(1e-12);
-    expect(Math.abs(r.uncertainty! - 0.025)).toBeLessThan(1e-12);
   });
 
   it('parses charge options, including selections that contain commas', () => {

@@ -1,32 +1,19 @@
 import { describe, expect, it } from 'vitest';
 import {
   analyseSeries,
-  blockingAnalysis,
   detectEquilibration,
   driftTest,
   extraTime,
   formatMeasurement,
-  geyerInefficiency,
   halvesTest,
-  inefficiency,
-  inefficiencyScan,
-  meanWithError,
   mser,
-  normalisedAutocorrelation,
-  seriesMean,
-  seriesStandardDeviation,
-  sokalWindow,
-  suggestedStartLag,
-  windowFractionFor,
-  windowRelativeError,
-  blockingPlateau,
-  chiSquaredUpperPoint,
-  combineStandardErrors,
   MIN_SAMPLES,
-  PLATEAU_MIN_BLOCKS,
 } from '../analyses/converge.js';
+import { blockingAnalysis } from '../src/numerics/blocking.js';
+import { inefficiency } from '../src/numerics/inefficiency.js';
+import { windowRelativeError } from '../src/numerics/sokal.js';
 import { AnalysisError, InputError, UsageError } from '../src/errors.js';
-import { ar1Series, ornsteinUhlenbeck, Random } from '../src/random.js';
+import { ar1Series, Random } from '../src/random.js';
 
 /** g of an AR(1) process, (1+φ)/(1−φ) (Priestley, Spectral Analysis and Time Series, 1981). */
 const gAr1 = (phi: number): number => (1 + phi) / (1 - phi);
@@ -37,137 +24,6 @@ const gAr1 = (phi: number): number => (1 + phi) / (1 - phi);
  */
 const blockFactorAr1 = (phi: number, m: number): number =>
   gAr1(phi) - (2 * phi * (1 - phi ** m)) / (m * (1 - phi) ** 2);
-
-describe('basic statistics', () => {
-  it('mean and sample standard deviation (hand computation)', () => {
-    // [2,4,4,4,5,5,7,9]: mean 5, Σ(x−x̄)² = 32, sample SD √(32/7). Tolerance 1e-12: round-off.
-    const x = Float64Array.from([2, 4, 4, 4, 5, 5, 7, 9]);
-    expect(seriesMean(x)).toBe(5);
-    expect(Math.abs(seriesStandardDeviation(x) - Math.sqrt(32 / 7))).toBeLessThan(1e-12);
-  });
-
-  it('normalised autocorrelation of AR(1): ρ(1) = φ within 5 Bartlett standard errors', () => {
-    // var ρ̂(1) ≈ (1−φ²)/n (Bartlett 1946); 5σ: false failure < 1e-6.
-    const n = 100_000;
-    const rho = normalisedAutocorrelation(ar1Series(n, 0.6, 3), 2);
-    expect(rho[0]).toBe(1);
-    expect(Math.abs(rho[1]! - 0.6)).toBeLessThan(5 * Math.sqrt((1 - 0.36) / n));
-  });
-
-  it('mean with error for white noise: SE = σ/√n', () => {
-    // Independent samples, SE = 1/√n (common practice, no source); g's relative error
-    // √(2(2M+1)/n) with Geyer's sum ending at M ≤ 3 is < 1 %, so SE is within 1 % +
-    // 4·(1/√(2(n−1))) of 1/√n.
-    const n = 100_000;
-    const r = meanWithError(ar1Series(n, 0, 9));
-    expect(Math.abs(r.standardError * Math.sqrt(n) - 1)).toBeLessThan(0.01 + 4 / Math.sqrt(2 * (n - 1)));
-    expect(Math.abs(r.mean)).toBeLessThan(4 / Math.sqrt(n));
-  });
-});
-
-describe('integrated autocorrelation time', () => {
-  it("Sokal's window on an exact geometric autocorrelation (hand computation)", () => {
-    // ρ(k) = 0.5^k: τ_int(M) = 1 − 2^−M. Criterion M ≥ 5(1/2 + τ_int(M)): M = 7 gives
-    // 5·(1.5 − 1/128) = 7.46 > 7, M = 8 gives 5·(1.5 − 1/256) = 7.48 ≤ 8 → window 8,
-    // g = 1 + 2(1 − 1/256) = 2.9921875 (hand computation). Tolerance 1e-12: only round-off.
-    const rho = Float64Array.from({ length: 50 }, (_, k) => 0.5 ** k);
-    const w = sokalWindow(rho);
-    expect(w.window).toBe(8);
-    expect(w.resolved).toBe(true);
-    expect(Math.abs(w.g - 2.9921875)).toBeLessThan(1e-12);
-  });
-
-  it("Geyer's estimator on exact AR(1) autocovariances gives (1+φ)/(1−φ)", () => {
-    // γ(k) = φ^k/(1−φ²): Γ_m = φ^{2m}(1+φ)/(1−φ²) > 0 for all m and decreasing, so the
-    // estimator sums everything: −1 + 2(1+φ)/(1−φ²)·Σφ^{2m}·(1−φ²) = (1+φ)/(1−φ) (closed form,
-    // Geyer 1992 applied to AR(1)). 400 lags leave 0.9^400 ≈ 5e-19: tolerance 1e-9 relative.
-    const phi = 0.9;
-    const gamma = Float64Array.from({ length: 401 }, (_, k) => phi ** k / (1 - phi * phi));
-    const gy = geyerInefficiency(gamma);
-    expect(Math.abs(gy.g / gAr1(phi) - 1)).toBeLessThan(1e-9);
-    // φ = −0.5 gives g = 1/3 exactly; the estimator floors g at 1 (documented, conservative).
-    const anti = Float64Array.from({ length: 401 }, (_, k) => (-0.5) ** k / 0.75);
-    expect(geyerInefficiency(anti).g).toBe(1);
-  });
-
-  it.each([
-    [0, 200_000],
-    [0.5, 200_000],
-    [0.9, 200_000],
-  ])('AR(1) φ = %f: g within 4 standard errors of (1+φ)/(1−φ)', (phi, n) => {
-    // Sokal (1997): var(τ̂)/τ² ≈ 2(2M+1)/n for a sum over lags 1 … M, so g has relative standard
-    // error √(2(2M+1)/n) (≈ 3 % here for φ = 0.9). The primary g is Geyer's, whose sum ends at
-    // its `window`; Sokal's window bias for ρ = φ^k is below e^{-5} ≈ 0.7 % of g. Tolerance:
-    // 4 standard errors + 1 % (a false failure has probability < 1e-4).
-    const x = ar1Series(n, phi, 100 + Math.round(phi * 10));
-    const est = inefficiency(x);
-    const tol = 4 * windowRelativeError(est.window, n) + 0.01;
-    expect(est.resolved).toBe(true);
-    expect(Math.abs(est.g / gAr1(phi) - 1)).toBeLessThan(tol);
-    expect(est.g).toBe(est.geyer.g);
-    // Sokal's window (second opinion) with its own window M in the same formula.
-    expect(est.sokal.resolved).toBe(true);
-    const tolS = 4 * windowRelativeError(est.sokal.window, n) + 0.01;
-    expect(Math.abs(est.sokal.g / gAr1(phi) - 1)).toBeLessThan(tolS);
-    // τ_int = (g − 1)/2 by the convention g = 1 + 2τ_int (Chodera 2016).
-    expect(Math.abs(est.tauInt - (est.g - 1) / 2)).toBeLessThan(1e-12);
-  });
-
-  it('Ornstein–Uhlenbeck: g = coth(dt/2τ)', () => {
-    // ρ_k = e^{−k·dt/τ} → g = (1 + e^{−a})/(1 − e^{−a}) = coth(a/2), a = dt/τ (geometric series,
-    // closed form). dt/τ = 0.2 → g = 10.03. Tolerance as in the AR(1) test (Sokal 1997), 4σ + 1 %.
-    const n = 200_000;
-    const x = ornsteinUhlenbeck(n, 0.01, 0.05, 3, 8);
-    const est = inefficiency(x);
-    const exact = 1 / Math.tanh(0.1);
-    expect(Math.abs(est.g / exact - 1)).toBeLessThan(4 * windowRelativeError(est.window, n) + 0.01);
-  });
-
-  it('window cap from the effective-sample threshold (hand computation)', () => {
-    // c/(2·minEffective): 5/100 = 0.05; 5/20 = 0.25; 5/10 = 0.5 → capped at 0.25. Exact.
-    expect(windowFractionFor(50)).toBe(0.05);
-    expect(windowFractionFor(10)).toBe(0.25);
-    expect(windowFractionFor(1000)).toBe(0.0025);
-  });
-
-  it('start-lag hint from blocking ≈ 1.5·c·F(m)/2 for AR(1) (closed-form block variance)', () => {
-    // (SE_plateau/SE_1)² estimates F(m) = m·var(block mean)/σ² at the plateau size m (closed
-    // form above, AR(1)). Its relative error is ≈ 2(δ_p/SE_p) + 2(δ_1/SE_1) (error propagation,
-    // δ from Flyvbjerg & Petersen 1989): tolerance 4 of those.
-    const n = 1 << 17;
-    const phi = 0.9;
-    const b = blockingAnalysis(ar1Series(n, phi, 12));
-    const p = b.plateau!;
-    const expected = (1.5 * 5 * blockFactorAr1(phi, p.size)) / 2;
-    const rel = 2 * (p.error / p.standardError) + 2 * (b.errorsOfStandardErrors[0]! / b.standardErrors[0]!);
-    expect(Math.abs(suggestedStartLag(b) / expected - 1)).toBeLessThan(4 * rel + 1 / expected);
-  });
-
-  it('scan over origins: white-noise tail after a correlated head has g ≈ 1', () => {
-    // First half AR(1) φ = 0.9 (g = 19), second half independent N(0,1) (g = 1, closed form).
-    // Tolerance for the tail: 4 × √(2(2M+1)/n) with the largest lag Geyer's sum used (Sokal 1997) + 1 %.
-    const half = 50_000;
-    const x = new Float64Array(2 * half);
-    x.set(ar1Series(half, 0.9, 14), 0);
-    x.set(ar1Series(half, 0, 15), half);
-    const [head, tail] = inefficiencyScan(x, [0, half]);
-    expect(Math.abs(tail!.g - 1)).toBeLessThan(4 * windowRelativeError(tail!.window, half) + 0.01);
-    // Whole series: independent halves, so n·var(mean) = (σ₁²g₁ + σ₂²g₂)/2 and the pooled
-    // variance is (σ₁² + σ₂²)/2, giving g = (5.263·19 + 1)/(5.263 + 1) = 16.13 (closed form,
-    // σ₁² = 1/(1−φ²)). The ρ of the mix is a weighted e^{−k/τ} plus the white half's spike at
-    // lag 0, so the truncation bias stays ≈ 2 %: tolerance 4 × √(2(2M+1)/n) (Sokal 1997) + 3 %.
-    const s1 = 1 / (1 - 0.81);
-    const gMix = (s1 * gAr1(0.9) + 1) / (s1 + 1);
-    expect(Math.abs(head!.g / gMix - 1)).toBeLessThan(4 * windowRelativeError(head!.window, 2 * half) + 0.03);
-  });
-
-  it('a constant series has ρ = (1, 0, 0, …) and g = 1', () => {
-    // Convention stated in the module (no fluctuations); exact values.
-    const x = new Float64Array(100).fill(-3.5);
-    expect(Array.from(normalisedAutocorrelation(x, 3))).toEqual([1, 0, 0, 0]);
-    expect(inefficiency(x).g).toBe(1);
-  });
-});
 
 describe('negative early correlation: slow AR(1) plus differenced white noise', () => {
   // x_t = a_t + (e_t − e_{t−1}): a is AR(1) with φ = 0.99 and unit innovations, e is independent
@@ -198,20 +54,6 @@ describe('negative early correlation: slow AR(1) plus differenced white noise', 
     }
     return x;
   };
-
-  it("on the exact autocovariances Geyer's estimator gives the closed-form g; Sokal's window stops at lag 1", () => {
-    // Γ_0 = γ_a(0)(1+φ) + s² and Γ_m = γ_a(0)φ^{2m}(1+φ) (m ≥ 1) are positive and decreasing, so
-    // the initial monotone sequence sums them all: −γ_x(0) + 2ΣΓ = γ_a(0)(1+φ)/(1−φ) (geometric
-    // series; Geyer 1992). 4000 lags leave φ^4000 ≈ 3e-18: tolerance 1e-9 relative (round-off).
-    const gamma = Float64Array.from({ length: 4001 }, (_, k) => exactGamma(k));
-    expect(Math.abs(geyerInefficiency(gamma).g / G_EXACT - 1)).toBeLessThan(1e-9);
-    // Sokal's criterion at M = 1: 1 ≥ 5·(1/2 + ρ(1)) = 5·0.1663 = 0.83, so it stops there with
-    // g = max(1, 1 + 2ρ(1)) = 1 (hand computation): the failure the primary estimator avoids.
-    const rho = gamma.map((v) => v / GX0);
-    const w = sokalWindow(rho);
-    expect(w.window).toBe(1);
-    expect(w.g).toBe(1);
-  });
 
   it('simulated, 2^20 samples: g, the standard error and the blocking plateau against the closed form', () => {
     const n = 1 << 20;
@@ -246,34 +88,7 @@ describe('negative early correlation: slow AR(1) plus differenced white noise', 
   });
 });
 
-describe('block averaging', () => {
-  it('linear ramp: closed-form standard error and lag-1 correlation at every level', () => {
-    // x_i = i, n = 2^12. Level l has n_b = n/2^l block means forming an arithmetic progression
-    // with spacing h = 2^l, so SE² = var/n_b = h²(n_b+1)/12 and the lag-1 autocorrelation is
-    // r₁ = 1 − 3/n_b (sums of powers, closed form). Tolerance 1e-9 relative: round-off only.
-    const n = 1 << 12;
-    const x = Float64Array.from({ length: n }, (_, i) => i);
-    const b = blockingAnalysis(x);
-    expect(b.sizes.length).toBe(12); // levels with ≥ 2 blocks: 4096 … 2 blocks
-    for (let l = 0; l < b.sizes.length; l++) {
-      const nb = n / 2 ** l;
-      expect(b.blocks[l]).toBe(nb);
-      const exact = 2 ** l * Math.sqrt((nb + 1) / 12);
-      expect(Math.abs(b.standardErrors[l]! / exact - 1)).toBeLessThan(1e-9);
-      expect(Math.abs(b.errorsOfStandardErrors[l]! - exact / Math.sqrt(2 * (nb - 1)))).toBeLessThan(1e-9 * exact);
-      if (nb >= 3) expect(Math.abs(b.lagOneCorrelations[l]! - (1 - 3 / nb))).toBeLessThan(1e-9);
-    }
-    // A ramp never looks independent, so the plateau rule finds nothing.
-    expect(b.plateau).toBeNull();
-  });
-
-  it('odd lengths drop the last block at each level (Flyvbjerg & Petersen 1989)', () => {
-    // 1000 → 500 → 250 → 125 → 62 → 31 → 15 → 7 → 3 → 1: levels with ≥ 2 blocks (hand computation).
-    const b = blockingAnalysis(ar1Series(1000, 0, 4));
-    expect(b.blocks).toEqual([1000, 500, 250, 125, 62, 31, 15, 7, 3]);
-    expect(b.sizes).toEqual([1, 2, 4, 8, 16, 32, 64, 128, 256]);
-  });
-
+describe('block averaging against the reported standard error', () => {
   it('AR(1) φ = 0.9: plateau SE matches the exact block variance and the autocorrelation estimate', () => {
     // Exact SE at block size m: σ_x·√(F(m)/n) with σ_x² = 1/(1−φ²) and F from blockFactorAr1
     // (closed form). The plateau level's SE has standard error SE/√(2(n_b−1)) (Flyvbjerg &
@@ -301,88 +116,6 @@ describe('block averaging', () => {
     const dAcf = (seAcf * windowRelativeError(est.window, n - report.equilibrationIndex)) / 2;
     expect(Math.abs(p.standardError - seAcf)).toBeLessThan(4 * Math.hypot(p.error, dAcf) + bias * seAcf);
     expect(report.blocking.agreesWithAutocorrelation).toBe(true);
-  });
-
-  it('white noise: the plateau is at or near single samples and equals σ/√n', () => {
-    // Independent N(0,1) samples: SE = 1/√n exactly in expectation (common practice, no source).
-    // Tolerance 4 standard errors of the plateau SE (Flyvbjerg & Petersen 1989).
-    const n = 100_000;
-    const b = blockingAnalysis(ar1Series(n, 0, 5));
-    const p = b.plateau!;
-    expect(p.size).toBeLessThanOrEqual(4);
-    expect(Math.abs(p.standardError - 1 / Math.sqrt(n))).toBeLessThan(4 * p.error);
-  });
-});
-
-describe('blocking plateau rule and the reported standard error', () => {
-  it('cumulative two-sided χ² test of the lag-1 correlations (hand computation, Jonsson 2018)', () => {
-    // Seven levels with n_b = 1024 … 16 blocks and chosen z_l = (r₁ + 1/n_b)√n_b =
-    // −4, 1, 2.4, 2.4, 2.4, 0, 0. z² = 16, 1, 5.76, 5.76, 5.76, 0, 0; suffix sums M_j = 34.28,
-    // 18.28, 17.28, 11.52, 5.76, 0, 0. Upper 1 % points of χ² (standard table, e.g. Abramowitz &
-    // Stegun 1964, Table 26.8): 6 d.o.f. 16.81, 5 d.o.f. 15.09, 4 d.o.f. 13.28, 1 d.o.f. 6.63.
-    // Level 0 fails on its own (|z| = 4, negative r₁: the test is two-sided); levels 1 and 2 pass
-    // on their own but M_1 = 18.28 > 16.81 and M_2 = 17.28 > 15.09 (later levels jointly
-    // correlated); level 3: M_3 = 11.52 < 13.28 and z² = 5.76 < 6.63 → plateau at level 3.
-    const blocks = [1024, 512, 256, 128, 64, 32, 16];
-    const z = [-4, 1, 2.4, 2.4, 2.4, 0, 0];
-    const table = {
-      sizes: blocks.map((_, l) => 2 ** l),
-      blocks,
-      standardErrors: blocks.map((_, l) => 0.01 * (l + 1)),
-      errorsOfStandardErrors: blocks.map((nb, l) => (0.01 * (l + 1)) / Math.sqrt(2 * (nb - 1))),
-      lagOneCorrelations: blocks.map((nb, l) => z[l]! / Math.sqrt(nb) - 1 / nb),
-    };
-    const p = blockingPlateau(table)!;
-    expect(p.level).toBe(3);
-    expect(p.size).toBe(8);
-    expect(p.standardError).toBe(0.04);
-    // With the later levels quiet (z = −4, 1, 0, 0, 0, 0, 0) level 1 passes both tests:
-    // z² = 1 < 6.63 and M_1 = 1 < 16.81.
-    const quiet = { ...table, lagOneCorrelations: blocks.map((nb, l) => (l === 0 ? z[0]! : l === 1 ? 1 : 0) / Math.sqrt(nb) - 1 / nb) };
-    expect(blockingPlateau(quiet)!.level).toBe(1);
-    // Levels with fewer than PLATEAU_MIN_BLOCKS = 16 blocks are not candidates: z = 3, 3 (z² = 9 >
-    // 6.63 each) at 1024 and 512 blocks, then a level of 8 blocks → no plateau.
-    expect(PLATEAU_MIN_BLOCKS).toBe(16);
-    const short = {
-      sizes: [1, 2, 4],
-      blocks: [1024, 512, 8],
-      standardErrors: [1, 1, 1],
-      errorsOfStandardErrors: [1, 1, 1],
-      lagOneCorrelations: [3 / Math.sqrt(1024) - 1 / 1024, 3 / Math.sqrt(512) - 1 / 512, 0],
-    };
-    expect(blockingPlateau(short)).toBeNull();
-  });
-
-  it('χ² upper 1 % points beyond the table: Wilson–Hilferty within 0.1 % of published values', () => {
-    // χ²_{0.99} for 31, 35 and 45 degrees of freedom: 52.191, 57.342, 69.957 (standard χ² table,
-    // from memory). Wilson & Hilferty (1931) is accurate to better than 0.1 % at these k.
-    expect(Math.abs(chiSquaredUpperPoint(31) / 52.191 - 1)).toBeLessThan(1e-3);
-    expect(Math.abs(chiSquaredUpperPoint(35) / 57.342 - 1)).toBeLessThan(1e-3);
-    expect(Math.abs(chiSquaredUpperPoint(45) / 69.957 - 1)).toBeLessThan(1e-3);
-    // Tabulated k: the table's 2-decimal entry for 1 d.o.f., 6.63 (6.6349 exactly, 2.5758²).
-    expect(Math.abs(chiSquaredUpperPoint(1) - 2.5758 ** 2)).toBeLessThan(0.01);
-  });
-
-  it('reported SE: autocorrelation when they agree, the larger when they do not (hand computation)', () => {
-    // Agreement: |0.0105 − 0.0100| = 0.0005 ≤ 2.5758·√(0.0004² + 0.0005²) = 0.00165 → SE_acf.
-    const acf = { standardError: 0.01, error: 0.0005 };
-    const withPlateau = (se: number) => ({
-      blocks: [64, 32, 16],
-      standardErrors: [0.008, se, se],
-      errorsOfStandardErrors: [0.0002, 0.0004, 0.0006],
-      plateau: { level: 1, size: 2, standardError: se, error: 0.0004 },
-    });
-    expect(combineStandardErrors(acf, withPlateau(0.0105))).toEqual({ standardError: 0.01, error: 0.0005, source: 'autocorrelation', agrees: true });
-    // Blocking larger by 0.004 > 0.00165: the larger, i.e. the plateau's, with its own error.
-    expect(combineStandardErrors(acf, withPlateau(0.014))).toEqual({ standardError: 0.014, error: 0.0004, source: 'blocking plateau', agrees: false });
-    // Blocking smaller by 0.004: the larger is the autocorrelation estimate.
-    expect(combineStandardErrors(acf, withPlateau(0.006))).toEqual({ standardError: 0.01, error: 0.0005, source: 'autocorrelation', agrees: false });
-    // An autocorrelation estimate that is only a lower bound gives way to a larger plateau even
-    // when they agree.
-    expect(combineStandardErrors({ ...acf, lowerBound: true }, withPlateau(0.0105)).source).toBe('blocking plateau');
-    // No plateau: the largest SE among levels with ≥ 16 blocks (0.015 at 16 blocks, not 0.03 at 8).
-    const none = { blocks: [64, 32, 16, 8], standardErrors: [0.01, 0.012, 0.015, 0.03], errorsOfStandardErrors: [1e-4, 2e-4, 3e-4, 1e-3], plateau: null };
-    expect(combineStandardErrors(acf, none)).toEqual({ standardError: 0.015, error: 3e-4, source: 'largest blocks', agrees: false });
   });
 });
 

@@ -1,81 +1,29 @@
 /**
- * Line fits, window rules and block statistics (src/fit.ts), the estimate comparison of the
- * diffusion command and the window option parsing, against hand computations, a reference
- * statistics library (simple-statistics) and closed-form curves.
+ * Window, segment, plateau and sampling rules (src/fit.ts) and the window option parsing, against
+ * hand computations and closed-form curves. The numerics they use are tested in
+ * test/numerics-*.test.ts.
  */
 import { describe, expect, it } from 'vitest';
-import { cumulativeStdNormalProbability, linearRegression, sampleStandardDeviation } from 'simple-statistics';
 import {
-  blockStatistics,
   correlationSamplingProblem,
-  cumulativeTrapezoid,
   diffusiveWindow,
-  fitLine,
-  logLogSlopes,
   maxLagIndex,
   planSegments,
   plateauDriftCheck,
   segmentedDiffusiveWindow,
   segmentUncertaintyFactor,
-  studentTCdf,
-  studentTQuantile,
-  trapezoidExponentialBias,
   windowFromTimes,
-  ONE_SIGMA_LEVEL,
 } from '../src/fit.js';
-import { Random } from '../src/random.js';
+import { ONE_SIGMA_LEVEL } from '../src/numerics/student-t.js';
 import { UsageError } from '../src/errors.js';
-import { quantity } from '../src/types.js';
-import { compareEstimates } from '../src/commands/diffusion.js';
-import { windowOptions, parseSegments } from '../src/commands/msd.js';
+import { readOptionValue, readOptionValues, SHARED, windowValues } from '../src/engine/options.js';
+import { MSD_WINDOW_OPTIONS } from '../analyses/msd-analysis.js';
 
-describe('fitLine', () => {
-  it('unweighted: slope, intercept and standard errors by hand', () => {
-    // Hand computation (formulas of Press et al., Numerical Recipes, 3rd ed., §15.2):
-    // x = 0..4, y = 0, 2, 1, 4, 3: x̄ = 2, ȳ = 2, S_xx = 10, S_xy = 8 → b = 0.8, a = 0.4;
-    // residuals −0.4, 0.8, −1.0, 1.2, −0.6 → RSS = 3.6, s² = 1.2; σ_b = √(1.2/10) = 0.346410,
-    // σ_a = √(1.2·(1/5 + 4/10)) = √0.72 = 0.848528. Tolerance 1e-6 (hand values to 6 figures).
-    const f = fitLine([0, 1, 2, 3, 4], [0, 2, 1, 4, 3]);
-    expect(Math.abs(f.slope - 0.8)).toBeLessThan(1e-12);
-    expect(Math.abs(f.intercept - 0.4)).toBeLessThan(1e-12);
-    expect(Math.abs(f.slopeError - 0.34641)).toBeLessThan(1e-5);
-    expect(Math.abs(f.interceptError - 0.848528)).toBeLessThan(1e-6);
-  });
-
-  it('agrees with simple-statistics linearRegression on noisy data (1e-10 relative)', () => {
-    // Reference: simple-statistics 7.x linearRegression (ordinary least squares), an independent
-    // implementation; both are exact formulas, so only round-off differs.
-    const rng = new Random(3);
-    const x = Array.from({ length: 200 }, (_, i) => 0.1 * i);
-    const y = x.map((v) => 2.5 * v - 1 + rng.normal());
-    const ref = linearRegression(x.map((v, i) => [v, y[i]]));
-    const f = fitLine(x, y, { from: 20, to: 199 });
-    const refSub = linearRegression(x.slice(20).map((v, i) => [v, y[20 + i]]));
-    expect(Math.abs(f.slope - refSub.m) / Math.abs(refSub.m)).toBeLessThan(1e-10);
-    expect(Math.abs(f.intercept - refSub.b) / Math.abs(refSub.b)).toBeLessThan(1e-10);
-    expect(Math.abs(fitLine(x, y).slope - ref.m) / ref.m).toBeLessThan(1e-10);
-  });
-
-  it('weighted: equal weights 1/σ² give σ_b = σ/√S_xx', () => {
-    // Closed form (Numerical Recipes §15.2): with w_i = 1/σ², Δ = w²(nΣx² − (Σx)²) = 50w² for
-    // x = 0..4, so σ_b = √(5w/Δ) = σ/√10 = 0.316228 for σ = 1; the slope equals the unweighted 0.8.
-    const f = fitLine([0, 1, 2, 3, 4], [0, 2, 1, 4, 3], { weights: [1, 1, 1, 1, 1] });
-    expect(Math.abs(f.slope - 0.8)).toBeLessThan(1e-12);
-    expect(Math.abs(f.slopeError - 0.316228)).toBeLessThan(1e-6);
-  });
-});
+/** The window options from option texts, as the msd command reads them. */
+const windowOptions = (raw: Record<string, string>) => windowValues(readOptionValues(MSD_WINDOW_OPTIONS, raw));
+const parseSegments = (text: string) => readOptionValue(SHARED.segments(), text);
 
 describe('window rules', () => {
-  it('logLogSlopes of a power law t^1.5 is 1.5 everywhere', () => {
-    // Truth: ln(t^p) is linear in ln t with slope p, so any two-point log difference is exact.
-    // Tolerance 1e-12: round-off of logarithms.
-    const t = Float64Array.from({ length: 200 }, (_, i) => i * 0.01);
-    const y = t.map((v) => v ** 1.5);
-    const b = logLogSlopes(t, y);
-    expect(Number.isNaN(b[0])).toBe(true);
-    for (const i of [1, 2, 50, 199]) expect(Math.abs(b[i] - 1.5)).toBeLessThan(1e-12);
-  });
-
   it('maxLagIndex is ⌊f·(T−1)⌋', () => {
     // Arithmetic: ⌊0.5·1000⌋ = 500, ⌊0.5·1001⌋ = 500.
     expect(maxLagIndex(1001)).toBe(500);
@@ -144,29 +92,6 @@ describe('segments', () => {
     expect(planSegments(1000, { from: 10, to: 150 }, { mayShrink: false })).toMatchObject({ ok: true, segments: 3 });
   });
 
-  it('blockStatistics: standard error SD/√M against simple-statistics', () => {
-    // Hand computation: 1..5 → mean 3, s = √(10/4) = 1.581139, SE = s/√5 = 0.707107 (Frenkel & Smit,
-    // 2nd ed., §4.4.1); s also from simple-statistics sampleStandardDeviation. Tolerance 1e-6.
-    const b = blockStatistics([1, 2, 3, 4, 5]);
-    expect(b.mean).toBe(3);
-    expect(Math.abs(b.sd - sampleStandardDeviation([1, 2, 3, 4, 5]))).toBeLessThan(1e-12);
-    expect(Math.abs(b.standardError - 0.707107)).toBeLessThan(1e-6);
-  });
-});
-
-describe('comparison of two estimates (diffusion command)', () => {
-  it('agree at 2σ, disagree at 3σ of the combined uncertainty', () => {
-    // Truth: σ_Δ = √(0.03² + 0.04²) = 0.05 (3-4-5 triangle; JCGM 100:2008 eq. 10); Δ = 0.1 → 2σ (agree,
-    // the threshold is inclusive), Δ = 0.15 → 3σ (disagree). Tolerance 1e-12: arithmetic.
-    const a = quantity(1.0, 0.03, 'm^2/s');
-    const ok = compareEstimates(a, quantity(0.9, 0.04, 'm^2/s'));
-    expect(Math.abs(ok.sigmas! - 2)).toBeLessThan(1e-12);
-    expect(ok.agree).toBe(true);
-    const bad = compareEstimates(a, quantity(0.85, 0.04, 'm^2/s'));
-    expect(Math.abs(bad.sigmas! - 3)).toBeLessThan(1e-12);
-    expect(bad.agree).toBe(false);
-    expect(compareEstimates(a, quantity(0.9, null, 'm^2/s')).agree).toBeNull();
-  });
 });
 
 describe('window options', () => {
@@ -217,29 +142,6 @@ describe('automatic window inside a segment', () => {
 });
 
 describe('Student-t factor for few segments', () => {
-  it('the CDF equals the closed forms for 1 and 2 degrees of freedom', () => {
-    // Closed forms: ν = 1 (Cauchy) F = 1/2 + arctan(t)/π; ν = 2: F = 1/2 + t/(2√(2 + t²))
-    // (e.g. Johnson, Kotz & Balakrishnan, Continuous Univariate Distributions, vol. 2, ch. 28;
-    // from memory, checked by differentiating). Tolerance 1e-14: exact formulas, round-off only.
-    for (const x of [-3, -0.5, 0, 0.7, 1.3213, 5]) {
-      expect(Math.abs(studentTCdf(x, 1) - (0.5 + Math.atan(x) / Math.PI))).toBeLessThan(1e-14);
-      expect(Math.abs(studentTCdf(x, 2) - (0.5 + x / (2 * Math.sqrt(2 + x * x))))).toBeLessThan(1e-14);
-    }
-  });
-
-  it('quantiles match the published two-sided 95 % table and approach the normal', () => {
-    // Table of t_{0.975,ν} (NIST/SEMATECH e-Handbook of Statistical Methods, §1.3.6.7.2; from
-    // memory): 12.706, 4.303, 3.182, 2.776, 2.571, 2.228 for ν = 1, 2, 3, 4, 5, 10. Tolerance: the
-    // table's 3 decimals (5e-4).
-    const table: Array<[number, number]> = [[1, 12.706], [2, 4.303], [3, 3.182], [4, 2.776], [5, 2.571], [10, 2.228]];
-    for (const [nu, t] of table) expect(Math.abs(studentTQuantile(0.975, nu) - t)).toBeLessThan(5e-4);
-    // Φ(1) from simple-statistics' normal CDF (an independent implementation, tabulated to 4
-    // decimals: tolerance 1e-4); for ν → ∞ the t quantile at Φ(1) tends to z = 1: at ν = 2000 the
-    // leading correction (z³ + z)/(4ν) = 2.5e-4 (Cornish–Fisher expansion, from memory): tolerance 5e-4.
-    expect(Math.abs(cumulativeStdNormalProbability(1) - ONE_SIGMA_LEVEL)).toBeLessThan(1e-4);
-    expect(Math.abs(studentTQuantile(ONE_SIGMA_LEVEL, 2000) - 1)).toBeLessThan(5e-4);
-  });
-
   it('segmentUncertaintyFactor is t_{0.8413, M−1} below 5 segments and 1 from 5 on', () => {
     // ν = 2 closed-form quantile: u = 2p − 1, t = u·√(2/(1 − u²)) (inverse of the CDF above);
     // ν = 1: t = tan(π(p − 1/2)). M = 3 → 1.3213, M = 2 → 1.8373. Tolerance 1e-10 (bisection).
@@ -251,28 +153,10 @@ describe('Student-t factor for few segments', () => {
   });
 });
 
-describe('trapezoid rule on a coarsely sampled exponential', () => {
-  it('the trapezoid integral of e^{−t/τ} with step h is h(1/2 + e^{−h/τ}/(1 − e^{−h/τ})), i.e. τ·x coth x', () => {
-    // Closed form: the trapezoid sum over all steps is h(1/2 + Σ_{k≥1} r^k) = h(1/2 + r/(1 − r)),
-    // r = e^{−h/τ} (geometric series); the exact integral is τ. Summed to 80τ (remainder e^{−80}).
-    // Tolerance 1e-12 relative: round-off of the sum.
-    const tau = 0.07;
-    for (const h of [0.004, 0.05, 0.2, 0.4]) {
-      const r = Math.exp(-h / tau);
-      const n = Math.ceil((80 * tau) / h) + 1;
-      const c = Float64Array.from({ length: n }, (_, k) => Math.exp((-k * h) / tau));
-      const trap = cumulativeTrapezoid(c, h)[n - 1];
-      const closed = h * (0.5 + r / (1 - r));
-      expect(Math.abs(trap - closed) / closed).toBeLessThan(1e-12);
-      expect(Math.abs(trap / tau - 1 - trapezoidExponentialBias(r))).toBeLessThan(1e-12);
-    }
-  });
-
+describe('sampling of a correlation for the trapezoid rule', () => {
   it('flags a correlation that loses more than half its value within one step', () => {
-    // Threshold r = C(h)/C(0) = 0.5: the bias there is x coth x − 1 with x = ln2/2, and
-    // coth(ln2/2) = (√2 + 1/√2)/(√2 − 1/√2) = 3 exactly, so the bias is 1.5 ln 2 − 1 = 0.0397
-    // (closed form). Tolerance 1e-14: round-off.
-    expect(Math.abs(trapezoidExponentialBias(0.5) - (1.5 * Math.LN2 - 1))).toBeLessThan(1e-14);
+    // Threshold r = C(h)/C(0) = 0.5, where the trapezoid bias on an exponential is 4 %
+    // (test/numerics-trapezoid.test.ts).
     const exp = (h: number, tau: number) => Float64Array.from({ length: 50 }, (_, k) => Math.exp((-k * h) / tau));
     // h/τ = 0.5 (r = 0.61) passes; h/τ = 2.86 (r = 0.057, the demo's stress would need h = 0.2 ps at
     // τ = 0.07 ps) fails, and the message states the closed-form overestimate, 100·(x coth x − 1).

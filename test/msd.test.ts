@@ -9,7 +9,8 @@ import { Random, ornsteinUhlenbeck } from '../src/random.js';
 import { CellGeometry, orthorhombicCell } from '../src/cell.js';
 import { sampleStandardDeviation } from 'simple-statistics';
 import { UsageError } from '../src/errors.js';
-import { msdOptionsFrom } from '../src/commands/msd.js';
+import { msdAnalysis } from '../analyses/msd-analysis.js';
+import { readOptionValues } from '../src/engine/options.js';
 import {
   addSelfTerm,
   directMsdOfSeries,
@@ -283,7 +284,7 @@ describe('Yeh–Hummer correction and in-plane diffusion', () => {
     const cell = orthorhombicCell(30, 30, 30);
     const topo = topology(Array.from({ length: n }, () => 'A'));
     expect(() => runMsd({ plane: 'xy', viscosity: 0.89e-3, temperature: 300, nonGaussian: false }, topo, walks, cell, dt)).toThrow(UsageError);
-    expect(() => msdOptionsFrom({ plane: 'xy', viscosity: '0.89mPa.s', temperature: '300K' })).toThrow(/--plane/);
+    expect(() => msdAnalysis.configure(readOptionValues(msdAnalysis.options, { plane: 'xy', viscosity: '0.89mPa.s', temperature: '300K' }))).toThrow(/--plane/);
     // Without the plane the same inputs are accepted.
     expect(runMsd({ viscosity: 0.89e-3, temperature: 300, nonGaussian: false }, topo, walks, cell, dt).yehHummer).not.toBeNull();
   });

@@ -101,6 +101,9 @@ const CASES: Record<string, Record<string, unknown>> = {
   rdf: { pair: ['Na:Cl', 'W:W'], blocks: '3', binWidth: '0.2A' },
   shell: { center: 'Na', around: 'W', cutoff: '4A', tolerance: '0.1ps', segments: '3' },
   vacf: { segments: '3' },
+  msd: { segments: '3', alpha2: true },
+  diffusion: { segments: '3' },
+  conductivity: { charges: 'Na=+1,Cl=-1', temperature: '300K', segments: '3', greenKubo: true },
 };
 
 describe('every registered analysis merges like one run', () => {

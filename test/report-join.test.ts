@@ -15,7 +15,6 @@ import {
   ionName,
   joinVerdict,
   labelSelection,
-  ratioJoin,
   rootSumSquares,
   shellQuote,
   stokesRadiusJoin,
@@ -164,15 +163,6 @@ describe('joins when an input has no uncertainty (unknown is not exact)', () => 
     expect(w.si.uncertainty).toBeNull();
     expect(w.conventional.uncertainty).toBeNull();
     expect(waldenJoin(quantity(126.45e-4, 0.5e-4, 'S m^2/mol'), etaUnknown).si.uncertainty).toBeNull();
-  });
-
-  it('ratio (ionicity): 0.5 ± 0.025 by hand, none when either input has none', () => {
-    // (2 ± 0.06)/(4 ± 0.16): u/r = √(0.03² + 0.04²) = 0.05 → 0.5 ± 0.025 (GUM eq. 12, 3-4-5).
-    const r = ratioJoin(quantity(2, 0.06, 'S/m'), quantity(4, 0.16, 'S/m'), '1');
-    expect(r.value).toBe(0.5);
-    expect(Math.abs(r.uncertainty! - 0.025)).toBeLessThan(1e-15);
-    expect(ratioJoin(quantity(2, null, 'S/m'), quantity(4, 0.16, 'S/m'), '1').uncertainty).toBeNull();
-    expect(ratioJoin(quantity(2, 0.06, 'S/m'), quantity(4, null, 'S/m'), '1').uncertainty).toBeNull();
   });
 
   it('the verdict names the input without an uncertainty and the unconverged ones', () => {

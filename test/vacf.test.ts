@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import type { Frame, PassContext, Topology } from '../src/types.js';
 import { ornsteinUhlenbeck } from '../src/random.js';
-import { cumulativeTrapezoid, plateauWindow, windowMean } from '../src/fit.js';
+import { plateauWindow, windowMean } from '../src/fit.js';
 import { cosineSpectrum, plateauWithSegments, vacfPass, WAVENUMBER_PER_THZ, type VacfPassOptions, type VacfResult } from '../analyses/vacf.js';
 import { mergeStores, type StorePartial } from '../analyses/msd.js';
 
@@ -47,17 +47,6 @@ function ouSystem(n: number, frames: number, dt: number, gamma: number, sv: numb
 }
 
 describe('integration and plateau helpers', () => {
-  it('cumulativeTrapezoid is exact for a line and within its error bound for e^{−t}', () => {
-    // Truth: ∫₀ᵗ (2 + 3s) ds = 2t + 1.5t² (exact for the trapezoid rule); ∫₀ᵗ e^{−s} ds = 1 − e^{−t}
-    // with the trapezoid error ≤ t·h²/12·max|f''| = 5·0.01/12 ≈ 4.2e-3 (Press et al., Numerical
-    // Recipes, 3rd ed., §4.1), used as the tolerance.
-    const h = 0.1;
-    const lin = cumulativeTrapezoid(Float64Array.from({ length: 51 }, (_, i) => 2 + 3 * i * h), h);
-    expect(Math.abs(lin[50] - (2 * 5 + 1.5 * 25))).toBeLessThan(1e-12);
-    const ex = cumulativeTrapezoid(Float64Array.from({ length: 51 }, (_, i) => Math.exp(-i * h)), h);
-    expect(Math.abs(ex[50] - (1 - Math.exp(-5)))).toBeLessThan((5 * h * h) / 12);
-  });
-
   it('plateauWindow starts where the relative change over the span first drops below the tolerance', () => {
     // Truth: for I(t) = 1 − e^{−t} sampled at t_i = i·h, the change over a span S·h from t is
     // e^{−t}(1 − e^{−Sh}) and must be ≤ tol·(1 − e^{−t}); solving gives

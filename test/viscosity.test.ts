@@ -8,22 +8,14 @@ import {
   analyseViscosity,
   cutoffIndex,
   defaultSegmentCount,
-  doubleExponential,
-  doubleExponentialLimit,
   doubleExponentialProblem,
-  fitDoubleExponential,
-  fitSingleExponential,
-  fitPowerLaw,
   greenKuboPrefactor,
-  helfandMsd,
-  integralCorrelationTime,
-  levenbergMarquardt,
   maxLagFor,
   plateauRise,
-  runningIntegral,
   shearComponents,
   type StressColumns,
 } from '../analyses/viscosity.js';
+import { doubleExponential, fitDoubleExponential } from '../src/numerics/exponential-fits.js';
 import { pickStressColumns, tensorKeyOf } from '../src/commands/viscosity.js';
 import { ornsteinUhlenbeck, Random } from '../src/random.js';
 import { BOLTZMANN } from '../src/units.js';
@@ -187,46 +179,7 @@ describe('shearComponents: the Daivis–Evans traceless-tensor identity', () => 
   });
 });
 
-describe('Levenberg–Marquardt and the double-exponential fit', () => {
-  it('minimises the Rosenbrock function to its known minimum (1, 1)', () => {
-    // Rosenbrock, Comput. J. 3, 175 (1960): f = 100(y − x²)² + (1 − x)², minimum 0 at (1, 1),
-    // written as residuals r = [10(y − x²), 1 − x]; start at the classic (−1.2, 1).
-    const res = levenbergMarquardt((p, out) => { out[0] = 10 * (p[1] - p[0] * p[0]); out[1] = 1 - p[0]; }, 2, [-1.2, 1]);
-    expect(res.converged).toBe(true);
-    // Tolerance: the minimum is exact; stop criteria (xtol 1e-10) allow ~1e-8.
-    expect(Math.abs(res.params[0] - 1)).toBeLessThan(1e-6);
-    expect(Math.abs(res.params[1] - 1)).toBeLessThan(1e-6);
-  });
-
-  it('recovers the parameters of exact double-exponential data', () => {
-    // η(t) = Aατ₁(1 − e^{−t/τ₁}) + A(1 − α)τ₂(1 − e^{−t/τ₂}) (Zhang, Otani & Maginn, J. Chem.
-    // Theory Comput. 11, 3537 (2015)) with A = 2, α = 0.7, τ₁ = 0.1, τ₂ = 1.5, on t ∈ (0, 10],
-    // weights 1/t^0.5. Exact data have an exact least-squares solution.
-    const truth = { A: 2, alpha: 0.7, tau1: 0.1, tau2: 1.5 };
-    const t = Array.from({ length: 500 }, (_, i) => (i + 1) * 0.02);
-    const y = t.map((x) => doubleExponential(x, truth));
-    const f = fitDoubleExponential(t, y, t.map((x) => 1 / Math.sqrt(x)));
-    expect(f.converged).toBe(true);
-    // Tolerance: exact data, so only the optimiser's stopping criteria limit the match (1e-5).
-    expect(rel(f.A, 2)).toBeLessThan(1e-5);
-    expect(rel(f.alpha, 0.7)).toBeLessThan(1e-5);
-    expect(rel(f.tau1, 0.1)).toBeLessThan(1e-5);
-    expect(rel(f.tau2, 1.5)).toBeLessThan(1e-5);
-    // Long-time limit A(ατ₁ + (1 − α)τ₂) = 2 (0.07 + 0.45) = 1.04 (hand).
-    expect(rel(f.limit, 1.04)).toBeLessThan(1e-5);
-    expect(rel(doubleExponentialLimit(truth), 1.04)).toBeLessThan(1e-14);
-  });
-
-  it('a single exponential (τ₁ = τ₂) is recovered with the right limit', () => {
-    // y = 3 (1 − e^{−t/0.2}): limit 3 (closed form). The double exponential is degenerate here.
-    const t = Array.from({ length: 300 }, (_, i) => (i + 1) * 0.01);
-    const y = t.map((x) => 3 * -Math.expm1(-x / 0.2));
-    const f = fitDoubleExponential(t, y, t.map(() => 1));
-    // Tolerance: exact data; 1e-5 as above.
-    expect(rel(f.limit, 3)).toBeLessThan(1e-5);
-    expect(f.converged).toBe(true);
-  });
-
+describe('trust in the double-exponential fit', () => {
   it('a slow time beyond t_max/3 ends on the bound and is reported, not trusted', () => {
     // Data: the Zhang–Otani–Maginn form with A = 2, α = 0.8, τ₁ = 0.1, τ₂ = 8 on t ∈ (0, 6]:
     // τ₂ exceeds the bound t_max/3 = 2 (closed form of the generating parameters), so the fit
@@ -252,53 +205,9 @@ describe('Levenberg–Marquardt and the double-exponential fit', () => {
     expect(doubleExponentialProblem(ok)).toBeNull();
   });
 
-  it('the single-exponential fallback recovers a(1 − e^{−t/τ}) exactly', () => {
-    // y = 0.3 (1 − e^{−t/0.07}) on t ∈ (0, 3]: limit 0.3, τ = 0.07, initial slope 0.3/0.07 (the α = 1
-    // case of Zhang, Otani & Maginn 2015). Exact data: the profiled minimum is exact; tolerance
-    // 1e-6 (golden-section stop at 1e-12 in ln τ, flat cost near the minimum).
-    const t = Array.from({ length: 750 }, (_, i) => (i + 1) * 0.004);
-    const f = fitSingleExponential(t, t.map((x) => 0.3 * -Math.expm1(-x / 0.07)), t.map((x) => x ** -0.56));
-    expect(f.converged).toBe(true);
-    expect(rel(f.limit, 0.3)).toBeLessThan(1e-6);
-    expect(rel(f.tau1, 0.07)).toBeLessThan(1e-6);
-    expect(rel(f.A, 0.3 / 0.07)).toBeLessThan(1e-6);
-    expect(rel(doubleExponentialLimit(f), 0.3)).toBeLessThan(1e-6);
-  });
-
-  it('power law σ = A t^b from exact data', () => {
-    // σ(t) = 0.3 t^0.55 exactly: the log-log line fit is exact (Numerical Recipes §15.2).
-    const t = Array.from({ length: 100 }, (_, i) => (i + 1) * 0.05);
-    const p = fitPowerLaw(t, t.map((x) => 0.3 * x ** 0.55));
-    // Tolerance: rounding only.
-    expect(rel(p.A, 0.3)).toBeLessThan(1e-10);
-    expect(rel(p.b, 0.55)).toBeLessThan(1e-10);
-  });
 });
 
 describe('small pieces', () => {
-  it('runningIntegral of e^{−t} is within the trapezoid error bound of 1 − e^{−t}', () => {
-    // Trapezoid rule error ≤ (b − a) h² max|f''| / 12 (Numerical Recipes §4.1) = 5 × 0.01² / 12.
-    const h = 0.01;
-    const y = Array.from({ length: 501 }, (_, k) => Math.exp(-k * h));
-    const I = runningIntegral(y, h);
-    const bound = (5 * h * h) / 12;
-    expect(Math.abs(I[500] - (1 - Math.exp(-5)))).toBeLessThan(bound);
-    expect(Math.abs(I[500] - (1 - Math.exp(-5)))).toBeGreaterThan(0); // the rule is not exact here
-  });
-
-  it('integralCorrelationTime of a damped cosine equals the closed-form integral to its first zero', () => {
-    // C = e^{−t/τ} cos ωt, τ = 1, ω = 2: first zero t₀ = π/(2ω); ∫₀^t₀ C dt
-    // = [e^{−t/τ}(ω sin ωt − cos(ωt)/τ)]₀^t₀ / (1/τ² + ω²) = (ω e^{−t₀} + 1)/(1 + ω²) (closed form).
-    const h = 1e-4;
-    const c = Array.from({ length: 20000 }, (_, k) => Math.exp(-k * h) * Math.cos(2 * k * h));
-    const { tau, decayed } = integralCorrelationTime(c, h);
-    const t0 = Math.PI / 4;
-    const exact = (2 * Math.exp(-t0) + 1) / 5;
-    expect(decayed).toBe(true);
-    // Tolerance: trapezoid error ~h² and linear interpolation of the crossing ~h²: 1e-6.
-    expect(Math.abs(tau - exact)).toBeLessThan(1e-6);
-  });
-
   it('cutoffIndex finds the first time σ exceeds 40 % of η', () => {
     // η = 1, σ = 0.1 √k: σ > 0.4 first at k = 17 (0.1·√16 = 0.4 is not above), so the cut is the
     // last index before it, 16 (definition as in Zhang, Otani & Maginn 2015).
@@ -329,62 +238,6 @@ describe('small pieces', () => {
     const p = plateauRise(curves, 10)!;
     expect(p.mean).toBeCloseTo(2, 12);
     expect(p.standardError).toBeCloseTo(1 / Math.sqrt(3), 12);
-  });
-});
-
-describe('Helfand moment and the batch autocorrelation', () => {
-  it('constant series: ⟨ΔG²⟩ = (c k dt)² exactly', () => {
-    // G_i = c i dt, so G_{i+k} − G_i = c k dt for every origin (closed form).
-    const x = new Float64Array(1000).fill(2.5);
-    const m = helfandMsd(x, 0.01, 100);
-    for (const k of [1, 10, 57, 100]) {
-      // Tolerance: M = S − 2C cancels terms of size ⟨G²⟩ ≈ 52 (G centred, |G| ≤ 12.5) with FFT
-      // round-off ≈ ε log₂S ≈ 3e-15 relative, i.e. ≈ 2e-13 absolute, against M(1) = 6.25e-4:
-      // ≈ 3e-10 relative at k = 1; allow 1e-8.
-      expect(rel(m[k], (2.5 * k * 0.01) ** 2)).toBeLessThan(1e-8);
-    }
-  });
-
-  it('white noise: ⟨ΔG²⟩ = k s² dt² (random walk, Einstein 1905)', () => {
-    // Independent N(0, s²) increments: the mean-squared displacement after k steps is k s² dt².
-    const n = 200_000;
-    const x = new Random(4).fillNormal(new Float64Array(n), 0, 2);
-    const m = helfandMsd(x, 0.5, 50);
-    // Tolerance: for overlapping windows the relative SD of the origin-averaged MSD of a random
-    // walk is ≈ √(4k/(3n)) (from memory): 1.8 % at k = 50, 0.6 % at k = 5; allow 6 % (> 3 SD).
-    expect(rel(m[50], 50 * 4 * 0.25)).toBeLessThan(0.06);
-    expect(rel(m[5], 5 * 4 * 0.25)).toBeLessThan(0.06);
-  });
-
-  it('Helfand moment equals the direct definition ⟨(G_{i+k} − G_i)²⟩ for short and long lag ranges', () => {
-    // Direct O(n·k) average over all origins of the definition (Helfand, Phys. Rev. 119, 1
-    // (1960)); the lag ranges exercise the different transform layouts of src/correlate.ts.
-    const rng = new Random(8);
-    for (const [n, maxLag] of [
-      [777, 200],
-      [5000, 4999],
-      [70_000, 3000],
-      [150_000, 40_000],
-    ] as const) {
-      const x = rng.fillNormal(new Float64Array(n), 0.3, 1);
-      const dt = 0.25;
-      const m = helfandMsd(x, dt, maxLag);
-      const G = new Float64Array(n + 1);
-      for (let i = 0; i < n; i++) G[i + 1] = G[i] + x[i] * dt;
-      for (const k of [1, 13, Math.floor(maxLag / 2), maxLag]) {
-        let s = 0;
-        for (let i = 0; i + k <= n; i++) s += (G[i + k] - G[i]) ** 2;
-        const ref = s / (n + 1 - k);
-        // Tolerance: M = S − 2C cancels sums of size ⟨G²⟩ (G centred, |G| up to ≈ 0.3·n·dt)
-        // with FFT round-off ≈ ε log₂S relative; 1e-7 relative to ⟨G²⟩ leaves wide margin and
-        // still catches any indexing or normalisation error (those are O(1)).
-        let g2 = 0;
-        let gm = 0;
-        for (let i = 0; i <= n; i++) gm += G[i] / (n + 1);
-        for (let i = 0; i <= n; i++) g2 += (G[i] - gm) ** 2 / (n + 1);
-        expect(Math.abs(m[k] - ref)).toBeLessThan(1e-7 * g2);
-      }
-    }
   });
 });
 

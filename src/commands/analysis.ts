@@ -25,6 +25,7 @@ export function commanderOption(spec: OptionSpec): Option {
   if (spec.type.kind === 'choice') o.choices(spec.type.choices as string[]);
   if (spec.type.kind === 'list') o.argParser(collect);
   if (spec.default !== undefined) o.default(spec.default);
+  if (spec.required) o.makeOptionMandatory();
   return o;
 }
 
@@ -91,10 +92,11 @@ export async function runAnalysis<O, P, R>(
       (t) => axis.layout(o, t),
       (first) => axis.bytesPerSiteFrame(o, first).all,
       (first) => axis.bytesPerSiteFrame(o, first).batch,
+      axis.bytesPerFrame,
     );
     if (plan) {
       let sums: unknown = null;
-      const b = await readStoreInBatches(file, opts, cc, plan, () => axis.store(o), warnings, (store, batch, run) => {
+      const b = await readStoreInBatches(file, opts, cc, plan, (_batch, i) => axis.store(o, i === 0), warnings, (store, batch, run) => {
         const layout = axis.layout(o, run.ctx.topology);
         const part = axis.sums(store, layout, groupSitesInBatch(layout, batch), run.ctx, o);
         sums = sums === null ? part : axis.add(sums, part);

@@ -9,9 +9,6 @@ import { register as merge } from './merge.js';
 import { register as converge } from './converge.js';
 import { register as viscosity } from './viscosity.js';
 import { register as stokes } from './stokes.js';
-import { register as msd } from './msd.js';
-import { register as diffusion } from './diffusion.js';
-import { register as conductivity } from './conductivity.js';
 import { register as report } from './report.js';
 
 import { ANALYSES } from '../../analyses/index.js';
@@ -27,8 +24,5 @@ export const COMMANDS: Array<(program: Command, cc: CommandContext) => void> = [
   converge,
   viscosity,
   stokes,
-  msd,
-  diffusion,
-  conductivity,
   report,
 ];

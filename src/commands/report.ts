@@ -62,7 +62,8 @@ import { analyseViscosity, shearComponents, type StressColumns } from '../../ana
 import { analyseSeries } from '../../analyses/converge.js';
 import { addTrajectoryOptions, parsePositiveTime, printWarnings, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
-import { addMemoryOption } from './msd.js';
+import { commanderOption } from './analysis.js';
+import { SHARED } from '../engine/options.js';
 import { vacfStoreBytes } from '../../analyses/vacf.js';
 import { uniformStep } from './converge.js';
 import { pickStressColumns } from './viscosity.js';
@@ -308,7 +309,7 @@ export function register(program: Command, cc: CommandContext): void {
     .option('--shell <centre:around:cutoff>', 'also count neighbours of CENTRE within CUTOFF and their residence time (2 ps tolerance; repeatable), e.g. "Na:Sv:3.4A"', collect)
     .option('--rdf-bin-width <length>', 'g(r) bin width', '0.05A')
     .option('--rdf-r-max <length>', 'largest g(r) distance (default: half the smallest cell width)');
-  addMemoryOption(cmd);
+  cmd.addOption(commanderOption(SHARED.maxMemory));
   addTrajectoryOptions(cmd).action(async (file: string, opts: ReportCliOptions) => {
     const t0 = performance.now();
     const started = new Date();

@@ -50,8 +50,10 @@ export interface SiteAxis<O, S, R> {
   layout(options: O, topology: Topology): SiteLayout;
   /** Bytes per stored site and frame: for one read of all sites, and for a batch read. */
   bytesPerSiteFrame(options: O, first: FirstFrameInfo): { all: number; batch: number };
-  /** Store options of a batch read (the engine sets `sites`). */
-  store(options: O): Omit<StoreOptions, 'sites'>;
+  /** Bytes per frame besides the sites (centre of mass, collective sums); default 48. */
+  bytesPerFrame?: number;
+  /** Store options of a batch read (the engine sets `sites`); `first` for the first read, which may keep more (e.g. collective sums). */
+  store(options: O, first: boolean): Omit<StoreOptions, 'sites'>;
   /** The site sums of one batch read (`groupSites`: each group's sites within the batch store). */
   sums(store: StorePartial, layout: SiteLayout, groupSites: Int32Array[], ctx: PassContext, options: O): S;
   add(a: S, b: S): S;

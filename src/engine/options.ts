@@ -32,6 +32,8 @@ export interface OptionSpec {
   readonly type: OptionKind;
   /** Default as text (read like a user value). */
   readonly default?: string;
+  /** The command cannot run without it (commander reports it missing, exit 2). */
+  readonly required?: boolean;
 }
 
 /** Parsed option values by key: numbers in internal units, texts, flags, lists, output paths. */
@@ -168,5 +170,40 @@ export function siteValues(v: OptionValues): { selection?: string; species?: str
   if (v.molecules === true) out.molecules = true;
   if (v.keepDrift === true) out.keepDrift = true;
   if (typeof v.plane === 'string') out.plane = v.plane;
+  return out;
+}
+
+/** The MSD fit window (msd, diffusion, conductivity). */
+export function windowOptionSpecs(defaults: { slopeTolerance: number; segments: number }): OptionSpec[] {
+  return [
+    { key: 'fitFrom', flag: '--fit-from <time>', help: 'start of the fit window, e.g. 20ps (with --fit-to; default: automatic)', type: { kind: 'quantity', dimension: 'time', nonNegative: true } },
+    { key: 'fitTo', flag: '--fit-to <time>', help: 'end of the fit window, e.g. 200ps', type: { kind: 'quantity', dimension: 'time' } },
+    {
+      key: 'slopeTolerance',
+      flag: '--slope-tolerance <x>',
+      help: `automatic window: largest |d ln MSD/d ln t − 1| (default ${defaults.slopeTolerance})`,
+      type: { kind: 'fraction', lo: 0, hi: 1 },
+    },
+    SHARED.segments(undefined, defaults.segments),
+  ];
+}
+
+/** The fit-window values as analysis options (times in ps); both ends or neither. */
+export function windowValues(v: OptionValues): { fitFrom?: number; fitTo?: number; tolerance?: number; segments?: number } {
+  if ((v.fitFrom === undefined) !== (v.fitTo === undefined)) throw new UsageError('give both --fit-from and --fit-to, or neither');
+  const out: { fitFrom?: number; fitTo?: number; tolerance?: number; segments?: number } = {};
+  if (v.fitFrom !== undefined) out.fitFrom = v.fitFrom as number;
+  if (v.fitTo !== undefined) out.fitTo = v.fitTo as number;
+  if (v.slopeTolerance !== undefined) out.tolerance = v.slopeTolerance as number;
+  if (v.segments !== undefined) out.segments = v.segments as number;
+  return out;
+}
+
+/** The plateau values as analysis options. */
+export function plateauValues(v: OptionValues): { plateauTolerance?: number; plateauSpan?: number; segments?: number } {
+  const out: { plateauTolerance?: number; plateauSpan?: number; segments?: number } = {};
+  if (v.plateauTolerance !== undefined) out.plateauTolerance = v.plateauTolerance as number;
+  if (v.plateauSpan !== undefined) out.plateauSpan = v.plateauSpan as number;
+  if (v.segments !== undefined) out.segments = v.segments as number;
   return out;
 }

@@ -11,13 +11,14 @@
  * independent the derivation is written at the function. Every joined number lists its inputs
  * with the windows they came from.
  */
-import { CORRELATION_SAMPLING_RATIO, trapezoidExponentialBias } from '../fit.js';
+import { CORRELATION_SAMPLING_RATIO } from '../fit.js';
+import { trapezoidExponentialBias } from '../numerics/trapezoid.js';
+import { productUncertainty, ratioWithUncertainty as ratioJoin } from '../numerics/propagation.js';
 import type { Quantity } from '../types.js';
 import { quantity } from '../types.js';
 import { ANGSTROM } from '../units.js';
 import {
   YEH_HUMMER_XI,
-  productUncertainty,
   stokesEinsteinRadius,
   stokesFactor,
   waldenProduct,
@@ -30,7 +31,7 @@ import { CAUTION } from '../caution.js';
 import { formatSig, formatTable, formatValue, toCsv, toJson, type InputRecord } from '../output.js';
 import { barPlot, blockingPlot, linePlot, type Band, type PlotMarkers } from './svg.js';
 import { renderReportHtml, type ConvergenceVerdict, type ReportFigure, type ReportModel, type ReportSection, type SummaryRow } from './html.js';
-import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../commands/diffusion.js';
+import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../numerics/compare.js';
 import type { OverviewResult } from '../../analyses/overview.js';
 import type { RdfPairResult, RdfResult } from '../../analyses/rdf.js';
 import type { ShellResult } from '../../analyses/shell.js';
@@ -102,16 +103,6 @@ export function joinVerdict(inputs: readonly JoinInput[]): { verdict: string; ok
   if (notConverged.length) parts.push(`inputs not converged: ${notConverged.join(', ')}`);
   if (unknown.length) parts.push(`no uncertainty, because ${unknown.join(' and ')} ${unknown.length > 1 ? 'have' : 'has'} none`);
   return { verdict: parts.join('; '), ok: false };
-}
-
-/**
- * Ratio a/b of two independent quantities (ionicity σ_EH/σ_NE, Haven ratio σ_NE/σ_EH) with the
- * first-order uncertainty |a/b|·√((u_a/a)² + (u_b/b)²) (GUM eq. 12), null when either input's
- * uncertainty is unknown (null).
- */
-export function ratioJoin(a: Quantity, b: Quantity, unit: string): Quantity {
-  const r = a.value / b.value;
-  return quantity(r, productUncertainty(r, [{ value: a.value, uncertainty: a.uncertainty }, { value: b.value, uncertainty: b.uncertainty, power: -1 }]), unit);
 }
 
 /**
@@ -790,7 +781,7 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
         if (sampling) samplingNotes.push(`${label}: ${sampling}`);
         row.push(formatValue(v.diffusion.value * D_SCALE, v.diffusion.uncertainty === null ? null : v.diffusion.uncertainty * D_SCALE), range(v.plateau.from, v.plateau.to));
         if (g) {
-          // Two routes to one number: flag a disagreement (src/commands/diffusion.ts rule).
+          // Two routes to one number: flag a disagreement (analyses/diffusion-analysis.ts rule).
           const cmp = compareEstimates(g.diffusion, v.diffusion);
           comparisons.push({ label, ...cmp });
           convergence.push({
