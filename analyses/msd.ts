@@ -39,7 +39,7 @@
  * One gather of each block of sites serves the full-run MSD, the segment MSDs and α2.
  * Every curve is a sum over sites (`GroupSums`), so a run whose sites do not fit in memory can
  * store the sites in batches over several reads of the file (`StoreOptions.sites`,
- * src/commands/batching.ts) and add the batches' sums (`addGroupSums`, `finishMsd`): the result
+ * src/engine/batches.ts) and add the batches' sums (`addGroupSums`, `finishMsd`): the result
  * equals one read's to round-off.
  */
 import type { CellMatrix, Frame, Pass, PassContext, Quantity, Topology } from '../src/types.js';

@@ -28,7 +28,7 @@
  * (`VacfGroupSums`: the full-run curve and every segment curve the plateau rule may ask for, all
  * before the division by the number of sites) and finishes from them (`finishVacf`). Sums from
  * batches of sites stored over several reads of a file (`--max-memory`,
- * src/commands/batching.ts) add up (`addVacfSums`) to those of one read; the normalisation,
+ * src/engine/batches.ts) add up (`addVacfSums`) to those of one read; the normalisation,
  * running integral, plateau and spectrum follow the addition, so the result equals one read's to
  * round-off.
  */

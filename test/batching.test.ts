@@ -11,7 +11,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { maxDiff, runJson } from './helpers/batch-runs.js';
 import { Random } from '../src/random.js';
-import { parseByteSize } from '../src/commands/batching.js';
+import { parseByteSize } from '../src/engine/batches.js';
 import { UsageError } from '../src/errors.js';
 
 /** Extended XYZ of random walks in a 20 Å cube (wrapped), with velocities; 2 species. */

@@ -17,7 +17,7 @@ import { readOptionValues } from '../src/engine/options.js';
 import { Random } from '../src/random.js';
 import { orthorhombicCell } from '../src/cell.js';
 import { storePass, type StorePartial } from '../analyses/msd.js';
-import { groupSitesInBatch } from '../src/commands/batching.js';
+import { groupSitesInBatch } from '../src/engine/batches.js';
 
 const ATOMS = 24;
 const FRAMES = 60;

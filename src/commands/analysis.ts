@@ -8,10 +8,9 @@
 import { Option, type Command } from 'commander';
 import type { AnyAnalysis, TrajectoryAnalysis } from '../engine/analysis.js';
 import { flagName, readOptionValues, SHARED, type OptionSpec } from '../engine/options.js';
-import { withRecipe } from '../engine/recipes.js';
+import { runAnalysis } from '../engine/run.js';
 import { checkOutputFile, checkOutputPrefix, stageFileSet } from '../output.js';
-import { addTrajectoryOptions, emit, runOnTrajectory, type CommandContext, type TrajectoryOptions, type TrajectoryRun } from './common.js';
-import { groupSitesInBatch, planSiteBatches, readStoreInBatches } from './batching.js';
+import { addTrajectoryOptions, emit, readSpecOf, runPlanOf, type CommandContext, type TrajectoryOptions } from './common.js';
 import type { Warnings } from '../types.js';
 
 /** Accumulate a repeatable option into an array. */
@@ -44,7 +43,7 @@ export function registerAnalysis(program: Command, cc: CommandContext, d: AnyAna
     const options = d.configure(values);
     // Before any reading: an output that cannot be written is found now, not after the run.
     const targets = outputTargets(d, values, file);
-    const { result, run } = await runAnalysis(d, options, file, raw, warnings, cc);
+    const { result, run } = await runAnalysis(d, options, readSpecOf(file, raw), { ...runPlanOf(file, raw, cc), maxMemory: raw.maxMemory as string | undefined }, warnings);
     const files = (d.outputs ?? []).flatMap((out) => {
       const target = targets.get(out.option);
       return target === undefined ? [] : out.write(result, options).map(([suffix, text]) => [target + suffix, text] as [string, string]);
@@ -68,44 +67,4 @@ function outputTargets(d: AnyAnalysis, values: Record<string, unknown>, file: st
     targets.set(out.option, target);
   }
   return targets;
-}
-
-/**
- * Run analysis `d` with pass options `o` on `file`: one read through its pass (on threads, or
- * from partial files), or, when it stores sites and --max-memory cannot hold them all, one read
- * per batch of sites whose sums add up before the result is finished.
- */
-export async function runAnalysis<O, P, R>(
-  d: TrajectoryAnalysis<O, P, R>,
-  o: O,
-  file: string,
-  opts: TrajectoryOptions & { maxMemory?: string },
-  warnings: Warnings,
-  cc: CommandContext,
-): Promise<{ result: R; run: TrajectoryRun }> {
-  const axis = d.sites;
-  if (axis) {
-    const plan = await planSiteBatches(
-      file,
-      opts,
-      cc,
-      (t) => axis.layout(o, t),
-      (first) => axis.bytesPerSiteFrame(o, first).all,
-      (first) => axis.bytesPerSiteFrame(o, first).batch,
-      axis.bytesPerFrame,
-    );
-    if (plan) {
-      let sums: unknown = null;
-      const b = await readStoreInBatches(file, opts, cc, plan, (_batch, i) => axis.store(o, i === 0), warnings, (store, batch, run) => {
-        const layout = axis.layout(o, run.ctx.topology);
-        const part = axis.sums(store, layout, groupSitesInBatch(layout, batch), run.ctx, o);
-        sums = sums === null ? part : axis.add(sums, part);
-      });
-      const record = { info: b.info, reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
-      return { result: axis.finish(sums, record, axis.layout(o, b.ctx.topology), b.ctx, o), run: b.first };
-    }
-  }
-  const pass = withRecipe(d.pass(o), { kind: d.name, options: o });
-  const run = await runOnTrajectory(file, opts, [pass], warnings, cc);
-  return { result: pass.finish(run.partials[0] as P, run.ctx), run };
 }

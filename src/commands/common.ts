@@ -10,7 +10,7 @@ import { parseQuantity } from '../units.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
 import { checkOutputFile, envelope, toJson, type InputRecord } from '../output.js';
-import { execute, type RunSource } from '../engine/execute.js';
+import { execute, type ExecutePlan, type RunSource } from '../engine/execute.js';
 import type { ReadSpec, TrajectoryRun } from '../engine/read.js';
 import type { RecipePass } from '../engine/recipes.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
@@ -137,6 +137,23 @@ export function parseThreads(text: string | undefined): number | null {
 /** Options that describe the range and the run, not the analysis (left out of partial files). */
 const RUN_KEYS = new Set(['frames', 'threads', 'partialOut']);
 
+/**
+ * The execution plan of a trajectory command's options: threads, where the partials come from,
+ * the partial-result file to write, and progress on a TTY.
+ */
+export function runPlanOf(file: string, opts: TrajectoryOptions, cc: CommandContext): ExecutePlan {
+  const threads = parseThreads(opts.threads);
+  if (opts.partialOut) checkOutputFile(opts.partialOut, [file], '--partial-out');
+  const progress = cc.source.kind === 'read' ? progressFor(file, opts.quiet) : null;
+  const options = Object.fromEntries(Object.entries(opts).filter(([k]) => !RUN_KEYS.has(k)));
+  return {
+    threads,
+    source: cc.source,
+    ...(opts.partialOut ? { partialOut: { path: opts.partialOut, command: cc.args[0] ?? '', argv: cc.args.slice(1), options } } : {}),
+    ...(progress ? { onFrame: progress.tick, onDone: progress.stop } : {}),
+  };
+}
+
 /** Open `file`, run `passes` on one read of it (or merge partial files), describe the input. */
 export async function runOnTrajectory(
   file: string,
@@ -146,16 +163,7 @@ export async function runOnTrajectory(
   cc: CommandContext,
 ): Promise<TrajectoryRun> {
   const spec = readSpecOf(file, opts);
-  const threads = parseThreads(opts.threads);
-  if (opts.partialOut) checkOutputFile(opts.partialOut, [file], '--partial-out');
-  const progress = cc.source.kind === 'read' ? progressFor(file, opts.quiet) : null;
-  const options = Object.fromEntries(Object.entries(opts).filter(([k]) => !RUN_KEYS.has(k)));
-  return execute(passes, spec, {
-    threads,
-    source: cc.source,
-    ...(opts.partialOut ? { partialOut: { path: opts.partialOut, command: cc.args[0] ?? '', argv: cc.args.slice(1), options } } : {}),
-    ...(progress ? { onFrame: progress.tick, onDone: progress.stop } : {}),
-  }, warnings);
+  return execute(passes, spec, runPlanOf(file, opts, cc), warnings);
 }
 
 /** Print warnings to stderr (unless quiet). */

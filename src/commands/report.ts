@@ -12,7 +12,7 @@
  * by src/report/write.ts.
  *
  * With --max-memory and a store that would exceed it, the streaming passes run on the first read
- * only and the store holds one batch of atoms per read (src/commands/batching.ts): every read adds
+ * only and the store holds one batch of atoms per read (src/engine/batches.ts): every read adds
  * its site sums of the MSD (per species, and per charge group when the conductivity splits a
  * species) and of the VACF; the first read also keeps the collective sums Σq r and Σq v per frame
  * for the conductivity. The analyses finish from the totals, as from one read.
@@ -60,8 +60,8 @@ import {
 import { analyseConductivity, atomCharges, parseChargeRules, type ChargeRule, type ConductivityResult } from '../../analyses/conductivity.js';
 import { analyseViscosity, shearComponents, type StressColumns } from '../../analyses/viscosity.js';
 import { analyseSeries } from '../../analyses/converge.js';
-import { addTrajectoryOptions, parsePositiveTime, printWarnings, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
-import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
+import { addTrajectoryOptions, parsePositiveTime, printWarnings, readSpecOf, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type BatchRequest, type SiteBatchPlan } from '../engine/batches.js';
 import { commanderOption } from './analysis.js';
 import { SHARED } from '../engine/options.js';
 import { vacfStoreBytes } from '../../analyses/vacf.js';
@@ -94,6 +94,11 @@ interface ReportCliOptions extends TrajectoryOptions {
   shell?: string[];
   rdfBinWidth: string;
   rdfRMax?: string;
+}
+
+/** What the report's batched reads read, under its --max-memory. */
+function batchRequest(file: string, opts: ReportCliOptions, cc: CommandContext): BatchRequest {
+  return { spec: readSpecOf(file, opts), maxMemory: opts.maxMemory, source: cc.source, partialOut: opts.partialOut !== undefined };
 }
 
 /** Parse --shell "CENTRE:AROUND:CUTOFF" (selections cannot contain ':'), e.g. "Na:Sv:3.4A". */
@@ -220,8 +225,7 @@ async function batchedReport(
     ...(i === 0 ? { collectiveCharges: (l: SiteLayout) => (l as ReturnType<typeof chargedLayout>).siteCharges } : {}),
   });
   const b = await readStoreInBatches(
-    file,
-    opts, cc,
+    batchRequest(file, opts, cc),
     plan,
     storeOptions,
     warnings,
@@ -331,7 +335,7 @@ export function register(program: Command, cc: CommandContext): void {
     // The store holds every atom: positions, and velocities when the file has them; per frame the
     // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
     const layoutSpec = (t: Topology) => speciesLayout(t, {});
-    const plan = await planSiteBatches(file, opts, cc, layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
+    const plan = await planSiteBatches(batchRequest(file, opts, cc), layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
 
     const staged: StagedDirectory | null = await (await import('../report/write.js')).stageDirectory(opts.out);
     try {

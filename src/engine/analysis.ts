@@ -16,6 +16,7 @@
 import type { Pass, PassContext, Topology } from '../types.js';
 import type { OptionSpec, OptionValues } from './options.js';
 import type { StoreOptions, StorePartial, SiteLayout } from '../../analyses/msd.js';
+import type { FirstFrameInfo } from './batches.js';
 
 /** A file an analysis writes from its result: the option naming it and the text(s). */
 export interface OutputSpec<O, R> {
@@ -23,12 +24,6 @@ export interface OutputSpec<O, R> {
   readonly option: string;
   /** [suffix, text] pairs: suffix '' for a single file, e.g. '-counts.csv' for a prefix. */
   write(result: R, options: O): Array<[string, string]>;
-}
-
-/** What the batch planner needs from the first frame of a file. */
-export interface FirstFrameInfo {
-  topology: Topology;
-  velocities: boolean;
 }
 
 /** Reads made in batches: the records without coordinates and how memory was spent. */

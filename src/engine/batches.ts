@@ -1,5 +1,5 @@
 /**
- * `--max-memory`: the analyses that keep whole time series (msd, vacf, conductivity, diffusion)
+ * Site batches under a memory bound (`--max-memory`), the second merge axis of the engine: the analyses that keep whole time series (msd, vacf, conductivity, diffusion)
  * hold 24 bytes per stored site and frame (48 with velocities). When the selected sites × frames
  * would exceed the limit, the sites are split into batches and the file is read once per batch,
  * each read storing only that batch's sites (`storePass` with `sites`). Every curve the analyses
@@ -13,13 +13,11 @@
  * first read may carry further passes, e.g. the report's streaming analyses), and the run's
  * records (cell, drift, unwrapping, collective charge sums) without coordinates afterwards.
  */
-import { execute } from '../engine/execute.js';
-import { readSpecOf } from './common.js';
 import { openTrajectory } from '../../readers/index.js';
 import { countFrames } from '../../readers/scan.js';
-import { parseFrameRange } from '../runner.js';
 import { UsageError } from '../errors.js';
-import { runOnTrajectory, type CommandContext, type TrajectoryOptions, type TrajectoryRun } from './common.js';
+import { execute, type RunSource } from './execute.js';
+import type { ReadSpec, TrajectoryRun } from './read.js';
 import type { Pass, PassContext, Topology, Warnings } from '../types.js';
 import {
   storeBytes,
@@ -57,6 +55,16 @@ export function parseByteSize(text: string, what = '--max-memory'): number {
   return Math.floor(bytes);
 }
 
+/** What a batched run reads and under which limit. */
+export interface BatchRequest {
+  spec: ReadSpec;
+  /** --max-memory as given (e.g. "512MB"), or undefined for no limit. */
+  maxMemory: string | undefined;
+  source: RunSource;
+  /** A partial-result file was asked for (it cannot be written by several reads). */
+  partialOut: boolean;
+}
+
 /** How the sites of a run are split into batches. */
 export interface SiteBatchPlan {
   /** Site indices (into the layout's SiteMap) of each batch, increasing. */
@@ -79,10 +87,10 @@ export interface FirstFrameInfo {
 export type BytesPerSiteFrame = number | ((first: FirstFrameInfo) => number);
 
 /** Topology and velocity presence of the first frame of a file (read and stopped). */
-async function firstFrame(file: string, opts: TrajectoryOptions): Promise<FirstFrameInfo> {
-  const input = await openTrajectory(file, { format: opts.format, strict: false, warnings: [] });
+async function firstFrame(spec: ReadSpec): Promise<FirstFrameInfo> {
+  const input = await openTrajectory(spec.file, { ...(spec.format ? { format: spec.format } : {}), strict: false, warnings: [] });
   for await (const f of input.frames()) return { topology: f.topology, velocities: f.velocities !== null };
-  throw new UsageError(`${file}: no complete frame`);
+  throw new UsageError(`${spec.file}: no complete frame`);
 }
 
 /**
@@ -94,24 +102,24 @@ async function firstFrame(file: string, opts: TrajectoryOptions): Promise<FirstF
  * counts the frames of the file.
  */
 export async function planSiteBatches(
-  file: string,
-  opts: TrajectoryOptions & { maxMemory?: string },
-  cc: CommandContext,
+  req: BatchRequest,
   layout: (t: Topology) => SiteLayout,
   bytesPerSiteFrame: BytesPerSiteFrame,
   batchBytesPerSiteFrame: BytesPerSiteFrame = bytesPerSiteFrame,
   bytesPerFrame = 48,
 ): Promise<SiteBatchPlan | null> {
-  if (opts.maxMemory === undefined || cc.source.kind === 'partials') return null;
-  const limit = parseByteSize(opts.maxMemory);
+  if (req.maxMemory === undefined || req.source.kind === 'partials') return null;
+  const { spec } = req;
+  const file = spec.file;
+  const limit = parseByteSize(req.maxMemory);
   if (file === '-') throw new UsageError('--max-memory needs a file: standard input cannot be read more than once');
-  const total = await countFrames(file, opts.format);
+  const total = await countFrames(file, spec.format);
   let frames = total;
-  if (opts.frames) {
-    const r = parseFrameRange(opts.frames);
+  if (spec.range) {
+    const r = spec.range;
     frames = Math.max(0, Math.ceil((Math.min(total, r.to) - r.from) / r.stride));
   }
-  const first = await firstFrame(file, opts);
+  const first = await firstFrame(spec);
   const sites = layout(first.topology).map.count;
   const rule = (b: BytesPerSiteFrame) => (typeof b === 'number' ? b : b(first));
   bytesPerSiteFrame = rule(bytesPerSiteFrame);
@@ -123,10 +131,10 @@ export async function planSiteBatches(
   const fit = Math.floor((limit - frames * perFrameExtra) / perSite);
   if (fit < 1) {
     throw new UsageError(
-      `--max-memory ${opts.maxMemory} cannot hold even one site's ${frames} frames (${(perSite + frames * perFrameExtra).toLocaleString('en')} bytes)`,
+      `--max-memory ${req.maxMemory} cannot hold even one site's ${frames} frames (${(perSite + frames * perFrameExtra).toLocaleString('en')} bytes)`,
     );
   }
-  if (opts.partialOut) throw new UsageError('--partial-out cannot be combined with a --max-memory that needs several reads of the file');
+  if (req.partialOut) throw new UsageError('--partial-out cannot be combined with a --max-memory that needs several reads of the file');
   const batches: Int32Array[] = [];
   const count = Math.ceil(sites / fit);
   const per = Math.ceil(sites / count); // balanced batches
@@ -150,19 +158,17 @@ export function groupSitesInBatch(layout: SiteLayout, batch: Int32Array): Int32A
  * kept once.
  */
 export async function readInBatches(
-  file: string,
-  opts: TrajectoryOptions,
+  req: BatchRequest,
   plan: SiteBatchPlan,
   passesFor: (batch: Int32Array, index: number) => Pass[],
   warnings: Warnings,
   each: (run: TrajectoryRun, batch: Int32Array, index: number) => void | boolean,
-  cc: CommandContext,
 ): Promise<void> {
   const seen = new Set(warnings);
   for (const [i, batch] of plan.batches.entries()) {
     const w: string[] = [];
     // A batch read runs on one thread: its store is built for the batch's sites here.
-    const run = await execute(passesFor(batch, i), readSpecOf(file, opts), { threads: 1, source: cc.source }, w);
+    const run = await execute(passesFor(batch, i), req.spec, { threads: 1, source: req.source }, w);
     for (const x of w) {
       if (!seen.has(x)) {
         seen.add(x);
@@ -200,9 +206,7 @@ export interface BatchedStoreRun {
  * batches) the counts add.
  */
 export async function readStoreInBatches(
-  file: string,
-  opts: TrajectoryOptions,
-  cc: CommandContext,
+  req: BatchRequest,
   plan: SiteBatchPlan,
   store: (batch: Int32Array, index: number) => Omit<StoreOptions, 'sites'>,
   warnings: Warnings,
@@ -216,7 +220,7 @@ export async function readStoreInBatches(
   let held = 0;
   let reads = 0;
   const passesFor = (sites: Int32Array, i: number): Pass[] => [storePass({ ...store(sites, i), sites }) as Pass, ...(i === 0 ? firstPasses : [])];
-  await readInBatches(file, opts, plan, passesFor, warnings, (run, batch, i) => {
+  await readInBatches(req, plan, passesFor, warnings, (run, batch, i) => {
     const s = run.partials[0] as StorePartial;
     reads++;
     // Nothing below may keep a read's store (its coordinates) past this call, or two batches
@@ -235,7 +239,7 @@ export async function readStoreInBatches(
       if (!covered) info = { ...info, longSteps: info.longSteps + s.longSteps, maxStepFraction: Math.max(info.maxStepFraction, s.maxStepFraction) };
     }
     return each(s, batch, run, i);
-  }, cc);
+  });
   return { first: first!, ctx: { ...lastCtx!, warnings }, info: info!, reads, bytesHeld: held, note: batchNote(plan, held) };
 }
 
