@@ -33,8 +33,7 @@
  * round-off.
  */
 import FFT from 'fft.js';
-import type { Pass, PassContext, Quantity } from '../src/types.js';
-import { quantity } from '../src/types.js';
+import type { Pass, PassContext } from '../src/types.js';
 import { estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { sumOfAutocorrelations, nextPowerOfTwo } from '../src/correlate.js';
 import { AnalysisError } from '../src/errors.js';

@@ -14,7 +14,7 @@
  */
 import { BOLTZMANN, ELEMENTARY_CHARGE, FARADAY, GAS_CONSTANT, CUBIC_ANGSTROM, ANGSTROM } from './units.js';
 import { quantity, type Quantity } from './types.js';
-import { asQuantity, combineVerdicts, estimate, reason, type Estimate, type Reason } from './estimate.js';
+import { asQuantity, estimate, reason, type Estimate, type Reason } from './estimate.js';
 import { UsageError } from './errors.js';
 import { crystalRadius, SHANNON_RADII, type IonRadius } from './radii.js';
 
