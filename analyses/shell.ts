@@ -399,7 +399,7 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
       if (!w.decayed) {
         note('shell.not-decayed', `C(t) stays above ${FIT_FLOOR} up to half the run (${(maxLag * dt).toFixed(3)} ps): the decay is not resolved and any tau would be an extrapolation`, 'not-converged');
         converged = false;
-        if (c[maxLag] > Math.exp(-1)) note('shell.not-decayed-to-1/e', 'C(t) has not even decayed to 1/e: run much longer');
+        if (c[maxLag] > Math.exp(-1)) note('shell.far-from-decayed', 'C(t) has not even decayed to 1/e: run much longer');
       }
     }
     const points = win.to - win.from + 1;
