@@ -38,6 +38,7 @@
  */
 import type { Pass, PassContext, Quantity, Topology } from '../src/types.js';
 import { quantity } from '../src/types.js';
+import { asQuantity, estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
 import { UsageError } from '../src/errors.js';
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } from '../src/units.js';
@@ -149,10 +150,11 @@ export function ionSites(
   topology: Topology,
   layout: SiteLayout & { siteCharges: Float64Array },
   ionAtoms: ReadonlySet<number> | null = null,
-): { ion: Uint8Array; notes: string[] } {
+): { ion: Uint8Array; notes: string[]; reasons: Reason[] } {
   const { map, siteCharges } = layout;
   const ion = new Uint8Array(map.count);
   const notes: string[] = [];
+  const reasons: Reason[] = [];
   const atomsOf = (s: number) => Array.from(map.atoms.subarray(map.start[s], map.start[s + 1]));
   if (ionAtoms) {
     for (let s = 0; s < map.count; s++) ion[s] = atomsOf(s).every((a) => ionAtoms.has(a)) ? 1 : 0;
@@ -187,22 +189,24 @@ export function ionSites(
     if (res && net && charged && firstAtom) {
       for (let m = 0; m < res.count; m++) if (charged[m] > 1 && isWholeCharge(net[m])) molecularIons.add(res.names[firstAtom[m]]);
       if (molecularIons.size) {
-        notes.push(
+        noteReason(notes, reasons, reason(
+          'conductivity.molecular-ions-as-atoms',
           `molecule(s) ${[...molecularIons].join(', ')} carry a whole net charge spread over several atoms: their atoms are not counted as ions ` +
             '(Nernst–Einstein, concentration); follow molecule centres with --molecules to count them',
-        );
+        ));
       }
     }
   }
   let others = 0;
   for (let s = 0; s < map.count; s++) if (!ion[s] && siteCharges[s] !== 0) others++;
   if (others > 0) {
-    notes.push(
+    noteReason(notes, reasons, reason(
+      'conductivity.partial-charges',
       `${others} charged site(s) are not ions (partial charges of neutral molecules${ionAtoms ? ', or not picked by --ions' : ''}): ` +
         'they enter the collective current (Einstein–Helfand, Green–Kubo) but not the Nernst–Einstein sum or the concentration',
-    );
+    ));
   }
-  return { ion, notes };
+  return { ion, notes, reasons };
 }
 
 /**
@@ -385,17 +389,23 @@ export interface ConductivitySpecies {
   ion: boolean;
   /** Segments the D uncertainty rests on. */
   segments: number;
-  diffusion: Quantity;
+  /** D from the MSD of the species (its Estimate, src/estimate.ts). */
+  diffusion: Estimate;
   fit: { from: number; to: number };
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one. */
+  reasons: Reason[];
 }
 
 /** Conductivity result (JSON `results`). */
 export interface ConductivityResult {
-  nernstEinstein: Quantity;
-  einsteinHelfand: Quantity;
-  greenKubo: Quantity | null;
+  /** σ_NE; verdict 'not-determined' without ions, else the worst of its inputs' (each species' D from the MSD). */
+  nernstEinstein: Estimate;
+  /** σ_EH with its fit window (ps); 'ok' when the slope fit converged and gave an uncertainty. */
+  einsteinHelfand: Estimate;
+  /** σ_GK with its plateau window (ps); 'ok' when the plateau, drift and sampling checks passed. */
+  greenKubo: Estimate | null;
   ionicity: Quantity;
   havenRatio: Quantity | null;
   molarConductivity: Quantity | null;
@@ -415,6 +425,12 @@ export interface ConductivityResult {
   netCharge: number;
   converged: boolean;
   notes: string[];
+  /**
+   * The notes, coded (src/estimate.ts), one for one. A note is its reason's words, in the
+   * `convergenceNote` form for those of the fits and plateaus, after "Einstein–Helfand: " or
+   * "Green–Kubo: " for the reasons of those two values (whose Estimates carry them without it).
+   */
+  reasons: Reason[];
   curves: {
     time: Float64Array;
     /** ⟨|ΔM|²⟩, e²Å². */
@@ -455,11 +471,12 @@ export function analyseConductivity(
   if (V === null) throw new UsageError('conductivity needs the cell volume and the file has no cell: give --box');
   const q = layout.siteCharges;
   const notes: string[] = [];
+  const reasons: Reason[] = [];
   let net = 0;
   for (const x of q) net += x;
   if (Math.abs(net) > 1e-6) {
     const w = `the charged sites are not neutral (net charge ${chargeText(net)} e): the Einstein–Helfand dipole depends on the drift treatment`;
-    notes.push(w);
+    noteReason(notes, reasons, reason('conductivity.net-charge', w));
     ctx.warnings.push(w);
   }
   const m =
@@ -475,14 +492,16 @@ export function analyseConductivity(
   // Ions (Nernst–Einstein, concentration) and the other charged sites (current only).
   const ionAtoms = opts.ions ? new Set(selectAtoms(opts.ions, ctx.topology)) : null;
   const ionInfo = ionSites(ctx.topology, layout, ionAtoms);
-  for (const n of ionInfo.notes) if (!notes.includes(n)) notes.push(n);
+  for (const r of ionInfo.reasons) if (!notes.includes(r.text)) noteReason(notes, reasons, r);
   const all: ConductivitySpecies[] = layout.groups.map((g, i) => {
     const r = m.groups[i];
     let ion = g.ion;
     if (ion === undefined) {
       const flags = Array.from(g.sites, (s) => ionInfo.ion[s]);
       ion = flags.every((x) => x === 1);
-      if (!ion && flags.some((x) => x === 1)) notes.push(`group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`);
+      if (!ion && flags.some((x) => x === 1)) {
+        noteReason(notes, reasons, reason('conductivity.mixed-group', `group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`));
+      }
     }
     return {
       label: g.label,
@@ -494,11 +513,12 @@ export function analyseConductivity(
       fit: { from: r.fit.from, to: r.fit.to },
       converged: r.converged,
       notes: r.notes,
+      reasons: r.reasons,
     };
   });
   const species = all.filter((x) => x.ion);
   const otherCharged = all.filter((x) => !x.ion);
-  let nernstEinstein: Quantity;
+  let nernstEinstein: Estimate;
   if (species.length > 0) {
     const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
     const neValue = nernstEinsteinConductivity(neInput, V, temp);
@@ -506,14 +526,27 @@ export function analyseConductivity(
     const neUnc = allUnc
       ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
       : null;
-    nernstEinstein = quantity(neValue, neUnc, 'S/m');
-    if (!allUnc) notes.push('some species D has no uncertainty: the Nernst–Einstein value has none');
+    // Its verdict is its inputs': the D of every ion species (a join, src/transport.ts).
+    const neReasons: Reason[] = [];
+    const unconverged = species.filter((x) => !x.converged).map((x) => x.label);
+    if (unconverged.length) {
+      neReasons.push(reason('conductivity.ne-input-not-converged', `the MSD diffusion coefficient of ${unconverged.join(', ')} did not converge`, 'not-converged'));
+    }
+    if (!allUnc) {
+      const r = reason('conductivity.ne-without-uncertainty', 'some species D has no uncertainty: the Nernst–Einstein value has none', 'unreliable');
+      noteReason(notes, reasons, r);
+      neReasons.push(r);
+    }
+    nernstEinstein = estimate(neValue, neUnc, 'S/m', { reasons: neReasons });
   } else {
-    nernstEinstein = quantity(NaN, null, 'S/m');
-    notes.push(
-      'not converged: no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
+    const r = reason(
+      'conductivity.no-ions',
+      'no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
         'concentration or molar conductivity; for scaled charges name the ions with --ions',
+      'not-converged',
     );
+    noteReason(notes, reasons, r, '', true);
+    nernstEinstein = estimate(NaN, null, 'S/m', { verdict: 'not-determined', reasons: [r] });
   }
 
   // Einstein–Helfand.
@@ -522,11 +555,15 @@ export function analyseConductivity(
   const sf = fitSlopeWithSegments(ehCurve, dt, T, opts, (start, count, lag) => collectiveMsd(view, q, start, count, lag));
   const ehValue = einsteinHelfandFromSlope(sf.slope, V, temp);
   const ehUnc = sf.slopeError === null ? null : einsteinHelfandFromSlope(sf.slopeError, V, temp);
-  const einsteinHelfand = quantity(ehValue, ehUnc, 'S/m');
-  notes.push(...sf.notes.map((n) => `Einstein–Helfand: ${n}`));
+  const einsteinHelfand = estimate(ehValue, ehUnc, 'S/m', {
+    window: { from: sf.from, to: sf.to, unit: 'ps' },
+    verdict: sf.converged && ehUnc !== null ? 'ok' : 'not-converged',
+    reasons: sf.reasons,
+  });
+  for (const r of sf.reasons) noteReason(notes, reasons, r, 'Einstein–Helfand: ', true);
 
   // Green–Kubo.
-  let greenKubo: Quantity | null = null;
+  let greenKubo: Estimate | null = null;
   let gkPlateau: ConductivityResult['greenKuboPlateau'] = null;
   let gkRunning: Float64Array | null = null;
   let gkConverged = true;
@@ -536,22 +573,33 @@ export function analyseConductivity(
     const jj = currentAutocorrelation(view, q, 0, T, maxLag);
     gkRunning = toSigma(jj);
     const pw = plateauWithSegments(gkRunning, T, { ...opts, timeStep: dt }, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
-    greenKubo = quantity(pw.value, pw.error, 'S/m');
     gkPlateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
     const d = pw.drift;
     gkDrift = d.checked ? { from: d.from * dt, to: d.to * dt, change: d.drift, error: d.error, threshold: d.threshold, drifting: d.drifting } : null;
     const sampling = correlationSamplingProblem(jj, dt, 'the charge-current autocorrelation');
     gkConverged = pw.converged && sampling === null;
-    notes.push(...pw.notes.map((n) => `Green–Kubo: ${n}`));
-    if (sampling) notes.push(`Green–Kubo: not converged: ${sampling}; the Einstein–Helfand value does not depend on this sampling`);
+    const gkReasons = [...pw.reasons];
+    if (sampling) {
+      gkReasons.push(reason('conductivity.coarse-sampling', `${sampling}; the Einstein–Helfand value does not depend on this sampling`, 'not-converged'));
+    }
+    for (const r of gkReasons) noteReason(notes, reasons, r, 'Green–Kubo: ', true);
+    greenKubo = estimate(pw.value, pw.error, 'S/m', {
+      window: { from: gkPlateau.from, to: gkPlateau.to, unit: 'ps' },
+      verdict: gkConverged && pw.error !== null ? 'ok' : 'not-converged',
+      reasons: gkReasons,
+    });
   } else if (opts.greenKubo ?? true) {
-    notes.push('Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)');
+    noteReason(notes, reasons, reason(
+      'conductivity.no-velocities',
+      'Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)',
+    ));
   }
 
-  const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1', { oneUnknown: 'nan' }) : quantity(NaN, null, '1');
+  const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1') : quantity(NaN, null, '1');
   let havenRatio: Quantity | null = null;
-  if (ehValue > 0 && species.length > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1', { oneUnknown: 'nan' });
-  else if (!(ehValue > 0)) notes.push('Einstein–Helfand conductivity is not positive: no Haven ratio');
+  // One rule for a missing uncertainty (src/numerics/propagation.ts): unknown in, unknown out.
+  if (ehValue > 0 && species.length > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1');
+  else if (!(ehValue > 0)) noteReason(notes, reasons, reason('conductivity.no-haven-ratio', 'Einstein–Helfand conductivity is not positive: no Haven ratio'));
 
   let cations = 0;
   for (const x of species) if (x.charge > 0) cations += x.count;
@@ -561,7 +609,9 @@ export function analyseConductivity(
     const c = concentrationMolPerM3(cations, V);
     concentration = quantity(c / 1000, null, 'mol/L');
     molar = quantity(ehValue / c, ehUnc === null ? null : ehUnc / c, 'S m^2/mol');
-  } else if (species.length > 0) notes.push('no cations among the ions: no salt concentration and no molar conductivity');
+  } else if (species.length > 0) {
+    noteReason(notes, reasons, reason('conductivity.no-cations', 'no cations among the ions: no salt concentration and no molar conductivity'));
+  }
 
   const greenKuboConverged = greenKubo === null ? null : gkConverged;
   const converged = sf.converged && gkConverged && species.length > 0 && species.every((s) => s.converged);
@@ -584,6 +634,7 @@ export function analyseConductivity(
     netCharge: net,
     converged,
     notes,
+    reasons,
     curves: {
       time: Float64Array.from(ehCurve, (_, k) => k * dt),
       collectiveMsd: ehCurve,

@@ -37,6 +37,7 @@ import { windowRelativeError } from '../src/numerics/sokal.js';
 import { combineStandardErrors, type CombinedStandardError } from '../src/numerics/standard-error.js';
 import { formatValue } from '../src/output.js';
 import { quantity, type Quantity } from '../src/types.js';
+import { estimate, reason, type Estimate, type Reason } from '../src/estimate.js';
 
 /**
  * Fewest samples accepted by `analyseSeries` (AnalysisError below). With 20 samples the
@@ -276,7 +277,12 @@ export interface SeriesOptions {
 export interface SeriesReport {
   name: string;
   samples: number;
-  mean: Quantity;
+  /**
+   * The mean with its standard error, the production window (ps, or samples without a time step),
+   * verdict ('ok' when reliable, else 'unreliable') and reasons: the flags of the verdict (verdict
+   * 'unreliable') and its cautions ('ok'), in the order the verdict text gives them.
+   */
+  mean: Estimate;
   /** Reported standard error of the mean (rule at `combineStandardErrors`). */
   standardError: number;
   /** Which estimate `standardError` is: see `CombinedStandardError.source`. */
@@ -463,37 +469,44 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
   // Target.
   const { targetAbs, extraTimeNeeded, extraText } = targetCheck(name, opts, mean, se, relErrG, toTime(np), timeUnit, unit);
 
-  // Verdict.
-  const flags: string[] = [];
-  const cautions: string[] = [];
+  // Verdict: flags make the series unreliable, cautions do not (coded, src/estimate.ts).
+  const reasons: Reason[] = [];
+  const flag = (code: string, text: string) => reasons.push(reason(code, text, 'unreliable'));
+  const caution = (code: string, text: string) => reasons.push(reason(code, text));
   if (!est.resolved) {
-    flags.push(
+    flag(
+      'series.correlation-unresolved',
       `correlation time not resolved within ${est.window} lags (${formatNumber((100 * est.window) / np)} % of the production run): the autocorrelation g is only a lower estimate and the effective sample count an upper one`,
     );
   }
-  if (nEff < minEffective) flags.push(`only ${formatNumber(nEff)} effective samples (fewer than ${minEffective})`);
-  if (drift.significant) flags.push(`drifts by ${formatMeasurement(drift.slope, drift.standardError)} ${slopeUnit}`);
+  if (nEff < minEffective) flag('series.few-effective-samples', `only ${formatNumber(nEff)} effective samples (fewer than ${minEffective})`);
+  if (drift.significant) flag('series.drift', `drifts by ${formatMeasurement(drift.slope, drift.standardError)} ${slopeUnit}`);
   if (!halves.consistent) {
-    flags.push(`first and second halves differ by ${withUnit(formatMeasurement(halves.difference, halves.combinedError), unit)}`);
+    flag('series.halves-differ', `first and second halves differ by ${withUnit(formatMeasurement(halves.difference, halves.combinedError), unit)}`);
   }
-  if (targetAbs !== null && se > targetAbs) flags.push(extraText);
+  if (targetAbs !== null && se > targetAbs) flag('series.target-not-reached', extraText);
   if (!blocking.plateau) {
     const largestBlock = blocking.sizes[blocking.blocks.filter((b) => b >= PLATEAU_MIN_BLOCKS).length - 1] ?? 1;
-    flags.push(
+    flag(
+      'series.no-blocking-plateau',
       `block averaging found no plateau (the blocked standard error is still changing at blocks of ${largestBlock} samples, the longest with at least ${PLATEAU_MIN_BLOCKS} blocks), so the error bar${combined.source === 'largest blocks' ? ', the largest blocked one,' : ''} may be too small`,
     );
   } else if (!agrees) {
-    cautions.push(
+    caution(
+      'series.blocking-disagrees',
       `blocked standard error ${formatNumber(blocking.plateau.standardError)} and autocorrelation estimate ${formatNumber(seAcf)} disagree beyond their uncertainty; the larger is reported`,
     );
   } else if (combined.source === 'blocking plateau') {
-    cautions.push(
+    caution(
+      'series.blocking-reported',
       `the blocked standard error ${formatNumber(blocking.plateau.standardError)} is reported: the autocorrelation estimate ${formatNumber(seAcf)} is only a lower bound`,
     );
   }
   const mserGap = ms.index - t0;
-  if (mserGap > 0.1 * n) cautions.push(`MSER-5 would discard the first ${ms.index} samples`);
-  if (!ms.clear) cautions.push('MSER-5 finds no clear truncation point in the first half');
+  if (mserGap > 0.1 * n) caution('series.mser-later', `MSER-5 would discard the first ${ms.index} samples`);
+  if (!ms.clear) caution('series.mser-unclear', 'MSER-5 finds no clear truncation point in the first half');
+  const flags = reasons.filter((r) => r.verdict !== 'ok').map((r) => r.text);
+  const cautions = reasons.filter((r) => r.verdict === 'ok').map((r) => r.text);
 
   const reliable = flags.length === 0;
   const parts = [
@@ -514,7 +527,7 @@ export function analyseSeries(name: string, values: Float64Array, opts: SeriesOp
   return {
     name,
     samples: n,
-    mean: quantity(mean, se, unit),
+    mean: estimate(mean, se, unit, { window: { from: toTime(t0), to: toTime(n - 1), unit: timeUnit }, verdict: reliable ? 'ok' : 'unreliable', reasons }),
     standardError: se,
     standardErrorSource: combined.source,
     autocorrelationStandardError: seAcf,
@@ -559,7 +572,7 @@ function constantReport(
   return {
     name,
     samples: n,
-    mean: quantity(v, 0, unit),
+    mean: estimate(v, 0, unit, { window: { from: 0, to: opts.dt === null ? n - 1 : (n - 1) * opts.dt, unit: timeUnit } }),
     standardError: 0,
     standardErrorSource: 'autocorrelation',
     autocorrelationStandardError: 0,

@@ -44,6 +44,7 @@
  */
 import type { CellMatrix, Frame, Pass, PassContext, Quantity, Topology } from '../src/types.js';
 import { quantity } from '../src/types.js';
+import { estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { CellGeometry, isOrthorhombic, volume as cellVolume } from '../src/cell.js';
 import { Unwrapper } from '../src/unwrap.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
@@ -1230,6 +1231,8 @@ export interface SlopeFit {
   uncertaintyFactor: number;
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one: each note is its reason's `convergenceNote`. */
+  reasons: Reason[];
 }
 
 /**
@@ -1249,6 +1252,7 @@ export function fitSlopeWithSegments(
   segmentCurve: (start: number, count: number, maxLag: number) => Float64Array,
 ): SlopeFit {
   const notes: string[] = [];
+  const reasons: Reason[] = [];
   const time = Float64Array.from(curve, (_, k) => k * dt);
   let window: LagWindow;
   let automatic: boolean;
@@ -1259,7 +1263,7 @@ export function fitSlopeWithSegments(
     if (window.to >= curve.length) throw new UsageError(`fit window ends beyond the computed curve (${(curve.length - 1) * dt} ps)`);
     automatic = false;
     const p = planSegments(frames, window, { segments: opts.segments ?? DEFAULT_SEGMENTS, maxFraction: 1, mayShrink: false });
-    notes.push(...p.notes.map((n) => (p.ok ? n : `not converged: ${n}`)));
+    for (const r of p.reasons) noteReason(notes, reasons, r, '', true);
     window = p.window;
     plan = p;
   } else {
@@ -1271,7 +1275,7 @@ export function fitSlopeWithSegments(
     window = w.window;
     automatic = true;
     found = w.found;
-    notes.push(...w.notes);
+    for (const r of w.reasons) noteReason(notes, reasons, r, '', true);
     plan = w;
   }
   const points = window.to - window.from + 1;
@@ -1288,9 +1292,11 @@ export function fitSlopeWithSegments(
     factor = segmentUncertaintyFactor(plan.segments);
     slopeError = blockStatistics(segmentSlopes).standardError * factor;
     const fn = segmentFactorNote(plan.segments);
-    if (fn) notes.push(fn);
+    if (fn) noteReason(notes, reasons, reason('segments.student-t', fn));
   }
-  if (points < MIN_WINDOW_POINTS) notes.push(`not converged: the fit window holds ${points} lags, fewer than ${MIN_WINDOW_POINTS}`);
+  if (points < MIN_WINDOW_POINTS) {
+    noteReason(notes, reasons, reason('msd.window-too-short', `the fit window holds ${points} lags, fewer than ${MIN_WINDOW_POINTS}`, 'not-converged'), '', true);
+  }
   const converged = found && plan.ok && points >= MIN_WINDOW_POINTS;
   return {
     window,
@@ -1305,6 +1311,7 @@ export function fitSlopeWithSegments(
     uncertaintyFactor: factor,
     converged,
     notes,
+    reasons,
   };
 }
 
@@ -1322,7 +1329,8 @@ export interface MsdGroupResult {
   nonGaussian: { time: number; value: number }[];
   fit: { from: number; to: number; points: number; automatic: boolean };
   slope: Quantity;
-  diffusion: Quantity;
+  /** D with its fit window (ps), verdict ('ok' when converged, else 'not-converged') and the coded notes. */
+  diffusion: Estimate;
   diffusionCorrected: Quantity | null;
   /** D in each independent segment, m²/s. */
   segmentDiffusion: number[];
@@ -1331,6 +1339,8 @@ export interface MsdGroupResult {
   uncertaintyFactor: number;
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one: each note is its reason's `convergenceNote`. */
+  reasons: Reason[];
 }
 
 /** MSD result of the whole analysis. */
@@ -1519,10 +1529,11 @@ export function finishMsd(
       return s;
     });
     const notes = [...sf.notes];
+    const reasons = [...sf.reasons];
     const dUnc = sf.slopeError === null ? null : diffusionFromSlope(sf.slopeError, dims);
     const D = diffusionFromSlope(sf.slope, dims);
     const ng = curves.nonGaussian.map((r) => ({ time: r.lag * dt, value: r.value }));
-    if (g.sites.length < 2) notes.push('a single site: its D rests on one trajectory');
+    if (g.sites.length < 2) noteReason(notes, reasons, reason('msd.single-site', 'a single site: its D rests on one trajectory'), '', true);
     groups.push({
       label: g.label,
       count: g.sites.length,
@@ -1532,13 +1543,18 @@ export function finishMsd(
       nonGaussian: ng,
       fit: { from: sf.from, to: sf.to, points: sf.points, automatic: sf.automatic },
       slope: quantity(sf.slope, sf.slopeError, 'A^2/ps'),
-      diffusion: quantity(D, dUnc, 'm^2/s'),
+      diffusion: estimate(D, dUnc, 'm^2/s', {
+        window: { from: sf.from, to: sf.to, unit: 'ps' },
+        verdict: sf.converged ? 'ok' : 'not-converged',
+        reasons,
+      }),
       diffusionCorrected: yh ? quantity(D + correction, dUnc, 'm^2/s') : null,
       segmentDiffusion: sf.segmentSlopes.map((s) => diffusionFromSlope(s, dims)),
       segments: sf.segments,
       uncertaintyFactor: sf.uncertaintyFactor,
       converged: sf.converged,
       notes,
+      reasons,
     });
   });
   const warn = unwrapWarning(info);

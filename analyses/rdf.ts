@@ -32,6 +32,7 @@
  */
 import type { Frame, Pass, PassContext, Quantity, CellMatrix } from '../src/types.js';
 import { quantity } from '../src/types.js';
+import { estimateOf, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { CellGeometry } from '../src/cell.js';
 import { PairHistogram, type SearchMethod } from '../src/neighbors.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
@@ -301,13 +302,16 @@ export interface RdfPairResult {
   gError: (number | null)[];
   firstPeak: { r: number; g: number } | null;
   firstMinimum: { r: number; g: number } | null;
-  coordinationNumber: Quantity | null;
+  /** n at the first minimum, window 0 … r_min (Å), verdict from the first-shell and block checks; null without a first minimum. */
+  coordinationNumber: Estimate | null;
   blocks: number;
   blockRule: string;
   statisticalInefficiency: number | null;
   smoothing: string;
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one. */
+  reasons: Reason[];
   structureFactor?: {
     q: number[];
     s: number[];
@@ -604,12 +608,13 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
   const kCoarse = Math.floor(nbins / p.coarseStride);
   const pairs: RdfPairResult[] = p.pairs.map((pair, pi) => {
     const notes: string[] = [];
+    const reasons: Reason[] = [];
     let converged = true;
     const total = curveOf(p.chunks, pi, nbins, binWidth, pair.orderedPairs, pair.nA);
     const gs = savitzkyGolay7(total.g);
     const shell = findFirstShell(gs, total.counts);
     if (shell.note) {
-      notes.push(shell.note);
+      noteReason(notes, reasons, reason(shell.peak === null ? 'rdf.no-first-peak' : 'rdf.no-first-minimum', shell.note, 'not-determined'));
       converged = false;
     }
     // Block count.
@@ -632,14 +637,17 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
         `blocks of at least ${BLOCK_LENGTH_FACTOR} statistical inefficiencies (${ineff.toFixed(1)} frames) of the per-frame ` +
         `count of B within ${rCol.toFixed(2)} A, at most ${MAX_AUTO_BLOCKS}`;
       if (Math.floor(p.frames / (BLOCK_LENGTH_FACTOR * ineff)) < FEW_BLOCKS) {
-        notes.push(`only ${Math.floor(p.frames / ineff)} independent samples (statistical inefficiency ${ineff.toFixed(1)} frames in ${p.frames} frames): the error bars are rough`);
+        noteReason(notes, reasons, reason(
+          'rdf.few-independent-samples',
+          `only ${Math.floor(p.frames / ineff)} independent samples (statistical inefficiency ${ineff.toFixed(1)} frames in ${p.frames} frames): the error bars are rough`,
+        ));
       }
     } else {
       blocksWanted = Math.min(p.frames, 4);
       blockRule = `${blocksWanted} blocks: too few frames (${p.frames} < 20) to measure a correlation time; blocks assumed independent`;
       // Without a measurable correlation time the block errors cannot be defended (a crystal or
       // a frozen system gives a spurious ± 0): report the curve but not as converged.
-      notes.push(`only ${p.frames} frame(s): no correlation time can be measured, so the block error bars are not defensible`);
+      noteReason(notes, reasons, reason('rdf.too-few-frames', `only ${p.frames} frame(s): no correlation time can be measured, so the block error bars are not defensible`, 'unreliable'));
       converged = false;
     }
     const plan = groupContiguous(p.chunks.map((c) => c.frames), Math.max(1, Math.min(blocksWanted, p.chunks.length)));
@@ -647,16 +655,17 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
     p.chunks.forEach((c, m) => blockChunks[plan.group[m]].push(c));
     const perBlock = blockChunks.map((cs) => curveOf(cs, pi, nbins, binWidth, pair.orderedPairs, pair.nA));
     const B = perBlock.length;
-    if (B < blocksWanted) notes.push(`${B} blocks instead of ${blocksWanted}: the frames are stored in ${p.chunks.length} contiguous chunks`);
+    if (B < blocksWanted) noteReason(notes, reasons, reason('rdf.fewer-blocks', `${B} blocks instead of ${blocksWanted}: the frames are stored in ${p.chunks.length} contiguous chunks`));
     if (B < 2) {
-      notes.push('a single block: no uncertainty can be given');
+      noteReason(notes, reasons, reason('rdf.single-block', 'a single block: no uncertainty can be given', 'unreliable'));
       converged = false;
     }
     const gError = Array.from(r, (_, k) => seOrNull(perBlock.map((b) => b.g[k])));
-    let coordinationNumber: Quantity | null = null;
+    let coordinationNumber: Estimate | null = null;
     if (shell.minimum !== null) {
       const m = shell.minimum;
-      coordinationNumber = quantity(total.n[m], seOrNull(perBlock.map((b) => b.n[m])), '1');
+      const window = { from: 0, to: r[m], unit: 'A' };
+      coordinationNumber = estimateOf(quantity(total.n[m], seOrNull(perBlock.map((b) => b.n[m])), '1'), { window, reasons });
     }
     const out: RdfPairResult = {
       a: pair.a,
@@ -677,6 +686,7 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
       smoothing: SMOOTHING,
       converged,
       notes,
+      reasons,
     };
     if (spec.structureFactor) {
       const { qMax, qStep, window } = spec.structureFactor;
@@ -686,7 +696,7 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
       const sqNote =
         `q starts at the first multiple of the q step at or above 2 pi/r-max = ${qMin.toPrecision(4)} 1/A: below it S(q) is set by the truncation of g(r) at r-max, ` +
         'not by the structure (Fourier resolution 2 pi/R); a larger r-max (bigger cell) reaches lower q';
-      if (q.length === 0) notes.push(`S(q): no q in ${qStep}–${qMax} 1/A lies at or above 2 pi/r-max = ${qMin.toPrecision(4)} 1/A`);
+      if (q.length === 0) noteReason(notes, reasons, reason('rdf.no-structure-factor-q', `S(q): no q in ${qStep}–${qMax} 1/A lies at or above 2 pi/r-max = ${qMin.toPrecision(4)} 1/A`));
       out.structureFactor = {
         qMin: quantity(qMin, null, '1/A'),
         note: sqNote,
@@ -704,7 +714,7 @@ function finishRdf(p: RdfPartial, spec: RdfSpec, ctx: PassContext): RdfResult {
       const cutoff = lj.cutoff ?? rMax;
       if (!pair.same) {
         out.lennardJones = null;
-        notes.push('--lj applies to a selection paired with itself (A:A); skipped for this pair');
+        noteReason(notes, reasons, reason('rdf.lj-needs-same-selection', '--lj applies to a selection paired with itself (A:A); skipped for this pair'));
       } else if (cutoff > rMax * (1 + 1e-9)) {
         throw new UsageError(`--lj cutoff ${cutoff} A is beyond r-max ${rMax} A: g(r) is not known that far`);
       } else {

@@ -25,6 +25,7 @@
  */
 import type { Frame, Pass, PassContext, Quantity } from '../src/types.js';
 import { quantity } from '../src/types.js';
+import { estimateOf, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { CellGeometry } from '../src/cell.js';
 import { forEachPairWithin } from '../src/neighbors.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
@@ -182,16 +183,20 @@ export interface ShellResult {
   frames: number;
   cutoff: Quantity;
   counts: { values: number[]; fractions: number[] };
-  meanCount: Quantity;
+  /** Mean neighbour count over the run; its verdict is the analysis' (`converged`), its reasons all the notes. */
+  meanCount: Estimate;
   statisticalInefficiency: number | null;
   survival: { time: number[]; value: number[] };
   tolerance: Quantity;
-  residenceTime: Quantity | null;
+  /** τ with its fit window (ps); verdict and reasons as for `meanCount`. */
+  residenceTime: Estimate | null;
   fitWindow: { from: number; to: number; unit: 'ps' } | null;
   fitMethod: string;
   segments: number;
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one. */
+  reasons: Reason[];
 }
 
 /** Frame-by-frame membership in the shell of every centre (see the module comment). */
@@ -312,6 +317,8 @@ export function mergeShellPartials(a: ShellPartial, b: ShellPartial): ShellParti
 
 function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellResult {
   const notes: string[] = [];
+  const reasons: Reason[] = [];
+  const note = (code: string, text: string, verdict: Reason['verdict'] = 'ok') => noteReason(notes, reasons, reason(code, text, verdict));
   let converged = true;
   const F = p.frames;
   if (F === 0) throw new AnalysisError('no frames reached the shell analysis');
@@ -332,10 +339,10 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
     for (const v of series) ss += (v - mean) ** 2;
     const sd = Math.sqrt(ss / (F - 1));
     meanCount = quantity(mean, sd * Math.sqrt(ineff / F), '1');
-    if (F / ineff < 20) notes.push(`the mean count rests on only ${(F / ineff).toFixed(1)} independent samples`);
+    if (F / ineff < 20) note('shell.few-independent-samples', `the mean count rests on only ${(F / ineff).toFixed(1)} independent samples`);
   } else {
     meanCount = quantity(mean, null, '1');
-    notes.push(`only ${F} frames: no standard error for the mean count (need at least 20)`);
+    note('shell.too-few-frames-for-mean', `only ${F} frames: no standard error for the mean count (need at least 20)`, 'unreliable');
     converged = false;
   }
   // Runs in frame ordinals.
@@ -355,13 +362,14 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
     `least-squares line through ln C(t) (free intercept), C(t) ~ A exp(-t/tau); window from max(dt, t*) to the last lag before C < ${FIT_FLOOR}; ` +
     `uncertainty SD/sqrt(M) over M contiguous segments fitted on the same window`;
   let residenceTime: Quantity | null = null;
+  // (Its Estimate is made at the end, with every reason.)
   let fitWindow: ShellResult['fitWindow'] = null;
   let segments = 0;
   if (totalCounts === 0 || p.members.every((m) => m === 0)) {
-    notes.push('no neighbour was ever inside the cutoff: no survival function');
+    note('shell.never-occupied', 'no neighbour was ever inside the cutoff: no survival function', 'not-determined');
     converged = false;
   } else if (maxLag < 3) {
-    notes.push(`only ${F} frames: too few for a survival function`);
+    note('shell.too-few-frames', `only ${F} frames: too few for a survival function`, 'not-determined');
     converged = false;
   } else {
     let win: LagWindow;
@@ -377,23 +385,23 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
       const w = survivalWindow(c, tolFrames);
       win = { from: w.from, to: w.to };
       if (!w.decayed) {
-        notes.push(`C(t) stays above ${FIT_FLOOR} up to half the run (${(maxLag * dt).toFixed(3)} ps): the decay is not resolved and any tau would be an extrapolation`);
+        note('shell.not-decayed', `C(t) stays above ${FIT_FLOOR} up to half the run (${(maxLag * dt).toFixed(3)} ps): the decay is not resolved and any tau would be an extrapolation`, 'not-converged');
         converged = false;
-        if (c[maxLag] > Math.exp(-1)) notes.push('C(t) has not even decayed to 1/e: run much longer');
+        if (c[maxLag] > Math.exp(-1)) note('shell.far-from-decayed', 'C(t) has not even decayed to 1/e: run much longer');
       }
     }
     const points = win.to - win.from + 1;
     if (points < MIN_WINDOW_POINTS) {
-      notes.push(`the fit window holds only ${Math.max(0, points)} lags (need ${MIN_WINDOW_POINTS}): the decay is faster than the frame interval allows to resolve`);
+      note('shell.window-too-short', `the fit window holds only ${Math.max(0, points)} lags (need ${MIN_WINDOW_POINTS}): the decay is faster than the frame interval allows to resolve`, 'not-converged');
       converged = false;
     }
     const tau = points >= 3 ? fitExponentialDecay(time, c, win.from, win.to) : NaN;
     if (!Number.isFinite(tau)) {
-      notes.push('no exponential decay could be fitted in the window');
+      note('shell.no-fit', 'no exponential decay could be fitted in the window', 'not-determined');
       converged = false;
     } else {
       const plan = planSegments(F, win, { segments: spec.segments ?? DEFAULT_SHELL_SEGMENTS, mayShrink: auto, minPoints: 3 });
-      for (const n of plan.notes) notes.push(n);
+      for (const r of plan.reasons) noteReason(notes, reasons, r);
       let se: number | null = null;
       if (plan.ok) {
         segments = plan.segments;
@@ -404,8 +412,8 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
           taus.push(fitExponentialDecay(time, cs, plan.window.from, plan.window.to));
         }
         if (taus.every(Number.isFinite)) se = blockStatistics(taus).standardError;
-        else notes.push('the survival function of a segment could not be fitted in the window: no uncertainty');
-        if (plan.segmentFrames * dt < 5 * tau) notes.push(`segments (${(plan.segmentFrames * dt).toFixed(3)} ps) are shorter than 5 tau: the uncertainty is rough`);
+        else note('shell.segment-fit-failed', 'the survival function of a segment could not be fitted in the window: no uncertainty', 'unreliable');
+        if (plan.segmentFrames * dt < 5 * tau) note('shell.short-segments', `segments (${(plan.segmentFrames * dt).toFixed(3)} ps) are shorter than 5 tau: the uncertainty is rough`);
       }
       if (se === null) converged = false;
       residenceTime = quantity(tau, se, 'ps');
@@ -413,6 +421,8 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
     }
   }
   for (const n of notes) ctx.warnings.push(`shell ${spec.center} / ${spec.around}: ${n}`);
+  // Both numbers carry the analysis' verdict (as the report has always shown them).
+  const verdict = converged ? 'ok' : 'not-converged';
   return {
     center: spec.center,
     around: spec.around,
@@ -421,16 +431,17 @@ function finishShell(p: ShellPartial, spec: ShellSpec, ctx: PassContext): ShellR
     frames: F,
     cutoff: quantity(spec.cutoff, null, 'A'),
     counts: { values: p.histogram.map((_, i) => i), fractions },
-    meanCount,
+    meanCount: estimateOf(meanCount, { window: { from: 0, to: (F - 1) * dt, unit: 'ps' }, verdict, reasons }),
     statisticalInefficiency: ineff,
     survival: { time: Array.from(time), value: Array.from(c) },
     tolerance: quantity(spec.tolerance, null, 'ps'),
-    residenceTime,
+    residenceTime: residenceTime === null ? null : estimateOf(residenceTime, { window: fitWindow, verdict, reasons }),
     fitWindow,
     fitMethod,
     segments,
     converged,
     notes,
+    reasons,
   };
 }
 

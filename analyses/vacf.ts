@@ -33,8 +33,8 @@
  * round-off.
  */
 import FFT from 'fft.js';
-import type { Pass, PassContext, Quantity } from '../src/types.js';
-import { quantity } from '../src/types.js';
+import type { Pass, PassContext } from '../src/types.js';
+import { estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { sumOfAutocorrelations, nextPowerOfTwo } from '../src/correlate.js';
 import { AnalysisError } from '../src/errors.js';
 import { defineAnalysis } from '../src/engine/analysis.js';
@@ -269,7 +269,8 @@ export interface VacfGroupResult {
   /** D(t) = (1/d)∫C, m²/s. */
   runningIntegral: Float64Array;
   plateau: { from: number; to: number; found: boolean };
-  diffusion: Quantity;
+  /** D with its plateau window (ps), verdict ('ok' when converged, else 'not-converged') and the coded notes. */
+  diffusion: Estimate;
   segmentDiffusion: number[];
   /** Segments the uncertainty rests on (0: none), and the factor applied to their standard error. */
   segments: number;
@@ -280,6 +281,8 @@ export interface VacfGroupResult {
   plateauDrift: { from: number; to: number; change: number; error: number | null; threshold: number; drifting: boolean } | null;
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one: each note is its reason's `convergenceNote`. */
+  reasons: Reason[];
   spectrum: { frequencyTHz: Float64Array; wavenumber: Float64Array; intensity: Float64Array; unit: string };
 }
 
@@ -313,6 +316,8 @@ export interface SegmentedPlateau {
   drift: PlateauDrift;
   converged: boolean;
   notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one: each note is its reason's `convergenceNote`. */
+  reasons: Reason[];
 }
 
 /**
@@ -328,19 +333,20 @@ export function plateauSegments(
   lags: number,
   samples: number,
   opts: { segments?: number; maxFraction?: number },
-): { segments: number; last: number; notes: string[] } {
+): { segments: number; last: number; notes: string[]; reasons: Reason[] } {
   const notes: string[] = [];
+  const reasons: Reason[] = [];
   const want = opts.segments ?? DEFAULT_SEGMENTS;
   const f = opts.maxFraction ?? DEFAULT_MAX_FRACTION;
   for (let m = want; m >= Math.min(want, MIN_SEGMENTS); m--) {
     const cap = Math.min(lags - 1, maxLagIndex(Math.floor(samples / m), f));
     if (cap >= 3 * MIN_PLATEAU_POINTS) {
-      if (m !== want) notes.push(`${m} segments instead of ${want}: segments of ${want} would be too short`);
-      return { segments: m, last: cap, notes };
+      if (m !== want) noteReason(notes, reasons, reason('segments.fewer', `${m} segments instead of ${want}: segments of ${want} would be too short`), '', true);
+      return { segments: m, last: cap, notes, reasons };
     }
   }
-  notes.push(`not converged: the run is too short for ${Math.min(want, MIN_SEGMENTS)} independent segments; no uncertainty`);
-  return { segments: 0, last: lags - 1, notes };
+  noteReason(notes, reasons, reason('segments.too-few', `the run is too short for ${Math.min(want, MIN_SEGMENTS)} independent segments; no uncertainty`, 'not-converged'), '', true);
+  return { segments: 0, last: lags - 1, notes, reasons };
 }
 
 /**
@@ -364,10 +370,11 @@ export function plateauWithSegments(
   const tol = opts.plateauTolerance ?? DEFAULT_PLATEAU_TOLERANCE;
   const sp = plateauSegments(integral.length, samples, opts);
   const notes = [...sp.notes];
+  const reasons = [...sp.reasons];
   const M = sp.segments;
   const last = sp.last;
   const w = plateauWindow(integral, { tolerance: tol, spanFraction: opts.plateauSpan, last });
-  if (!w.found && w.reason) notes.push(`not converged: ${w.reason}`);
+  if (!w.found && w.reason) noteReason(notes, reasons, reason(w.reasonCode!, w.reason, 'not-converged'), '', true);
   const window = { from: w.from, to: w.to };
   const value = windowMean(integral, window);
   const segmentValues: number[] = [];
@@ -385,11 +392,11 @@ export function plateauWithSegments(
     factor = segmentUncertaintyFactor(M);
     error = blockStatistics(segmentValues).standardError * factor;
     const fn = segmentFactorNote(M);
-    if (fn) notes.push(fn);
+    if (fn) noteReason(notes, reasons, reason('segments.student-t', fn), '', true);
   }
   const drift = plateauDriftCheck(integral, segmentCurves, window, last, tol);
   // A plateau that was not found is already flagged; the drift check speaks for found ones.
-  if (w.found && drift.reason) notes.push(`not converged: ${drift.reason}`);
+  if (w.found && drift.reason) noteReason(notes, reasons, reason(drift.reasonCode!, drift.reason, 'not-converged'), '', true);
   // Beyond the lags a segment holds there is no segment uncertainty; a large departure of the
   // full-run integral there is reported (not part of the verdict).
   if (w.found && error !== null && integral.length - 1 > last) {
@@ -398,14 +405,15 @@ export function plateauWithSegments(
     const dev = integral[kMax] - value;
     if (Math.abs(dev) > Math.max(3 * error, tol * Math.abs(value))) {
       const at = opts.timeStep !== undefined ? `${Number((kMax * opts.timeStep).toPrecision(4))} ps` : `lag ${kMax}`;
-      notes.push(
+      noteReason(notes, reasons, reason(
+        'plateau.departs-beyond-segments',
         `beyond the lags a segment holds, the full-run running integral departs from the plateau by up to ${((100 * dev) / Math.abs(value)).toFixed(0)} % ` +
           `(at ${at}; ${(Math.abs(dev) / error).toFixed(1)}× the uncertainty); no segment uncertainty exists there, so this is not part of the verdict — inspect the curve`,
-      );
+      ), '', true);
     }
   }
   const converged = w.found && M > 0 && drift.checked && !drift.drifting;
-  return { window, found: w.found, value, segmentValues, error, segments: M, uncertaintyFactor: factor, drift, converged, notes };
+  return { window, found: w.found, value, segmentValues, error, segments: M, uncertaintyFactor: factor, drift, converged, notes, reasons };
 }
 
 /** Lags and segments of a VACF analysis (shared by the one-read and the batched paths). */
@@ -512,9 +520,13 @@ export function finishVacf(
     });
     const spec = cosineSpectrum(c, dt);
     const notes = [...pw.notes];
-    if (!(c[0] > 0)) notes.push('not converged: C(0) is not positive (no motion)');
+    const reasons = [...pw.reasons];
+    if (!(c[0] > 0)) noteReason(notes, reasons, reason('vacf.no-motion', 'C(0) is not positive (no motion)', 'not-converged'), '', true);
     const sampling = correlationSamplingProblem(c, dt, 'the VACF');
-    if (sampling) notes.push(`not converged: ${sampling}; the MSD value does not depend on this sampling`);
+    if (sampling) {
+      noteReason(notes, reasons, reason('vacf.coarse-sampling', `${sampling}; the MSD value does not depend on this sampling`, 'not-converged'), '', true);
+    }
+    const converged = pw.converged && c[0] > 0 && sampling === null;
     groups.push({
       label: g.label,
       count: g.sites.length,
@@ -523,7 +535,11 @@ export function finishVacf(
       normalized: c.map((x) => x / c[0]),
       runningIntegral: running,
       plateau: { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found },
-      diffusion: quantity(pw.value, pw.error, 'm^2/s'),
+      diffusion: estimate(pw.value, pw.error, 'm^2/s', {
+        window: { from: pw.window.from * dt, to: pw.window.to * dt, unit: 'ps' },
+        verdict: converged ? 'ok' : 'not-converged',
+        reasons,
+      }),
       segmentDiffusion: pw.segmentValues,
       segments: pw.segments,
       uncertaintyFactor: pw.uncertaintyFactor,
@@ -531,8 +547,9 @@ export function finishVacf(
       plateauDrift: pw.drift.checked
         ? { from: pw.drift.from * dt, to: pw.drift.to * dt, change: pw.drift.drift, error: pw.drift.error, threshold: pw.drift.threshold, drifting: pw.drift.drifting }
         : null,
-      converged: pw.converged && c[0] > 0 && sampling === null,
+      converged,
       notes,
+      reasons,
       spectrum: {
         frequencyTHz: spec.frequencyTHz,
         wavenumber: spec.frequencyTHz.map((f) => f * WAVENUMBER_PER_THZ),

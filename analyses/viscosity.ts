@@ -74,6 +74,7 @@ import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { BOLTZMANN, CUBIC_ANGSTROM, PICOSECOND } from '../src/units.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
 import { quantity, type Quantity } from '../src/types.js';
+import { estimate, reason, type Estimate } from '../src/estimate.js';
 
 /** σ(t)/η̄(t) at which the running integral is cut (Zhang, Otani & Maginn 2015, as we recall: 40 %). */
 export const CUTOFF_FRACTION = 0.4;
@@ -248,7 +249,12 @@ export interface ViscosityInput {
 
 /** The JSON-ready result. */
 export interface ViscosityResult {
-  viscosity: Quantity;
+  /**
+   * η with its fit window (ps) and verdict ('ok' when converged); its reasons are `reasons` (code
+   * 'viscosity.not-converged', verdict 'not-converged') then `notes` (code 'viscosity.note',
+   * cautions). The codes are not finer yet: nothing decides on them.
+   */
+  viscosity: Estimate;
   method: string;
   /** Running integral (thinned to ≤ MAX_REPORT_POINTS): time ps, eta and sigma Pa s. */
   runningIntegral: { time: Float64Array; eta: Float64Array; sigma: Float64Array; fit: Float64Array };
@@ -691,14 +697,19 @@ export function analyseViscosity(input: ViscosityInput): ViscosityAnalysis {
   );
   if (N < 10) notes.push(`only ${N} segments: σ(t) and the uncertainty rest on few independent estimates`);
   const converged = reasons.length === 0 && etaErr !== null;
+  const fitWindow = { from: ft[0], to: ft[ft.length - 1], unit: 'ps' as const };
   const result: ViscosityResult = {
-    viscosity: quantity(eta, etaErr, 'Pa s'),
+    viscosity: estimate(eta, etaErr, 'Pa s', {
+      window: fitWindow,
+      verdict: converged ? 'ok' : 'not-converged',
+      reasons: [...reasons.map((t) => reason('viscosity.not-converged', t, 'not-converged')), ...notes.map((t) => reason('viscosity.note', t))],
+    }),
     method: `Green–Kubo, time-decomposition (Zhang, Otani & Maginn 2015) with Daivis–Evans component averaging; ${model} fit`,
     runningIntegral: { time: pick(time), eta: pick(mean), sigma: pick(sigma), fit: pick(fitCurve) },
     cutoffTime: quantity(kCut * dt, null, 'ps'),
     cutoffFraction: fraction,
     cutoffReached: g.cutReached,
-    fitWindow: { from: ft[0], to: ft[ft.length - 1], unit: 'ps' },
+    fitWindow,
     components: comps,
     weighting:
       nc === 5

@@ -38,6 +38,7 @@ import { blockStatistics } from './numerics/block-statistics.js';
 import { logLogSlopes } from './numerics/log-slope.js';
 import { ONE_SIGMA_LEVEL, studentTQuantile } from './numerics/student-t.js';
 import { trapezoidExponentialBias } from './numerics/trapezoid.js';
+import { convergenceNote, reason, type Reason } from './estimate.js';
 
 /** Default tolerance on |d ln y/d ln t − 1| for the automatic diffusive window. */
 export const DEFAULT_SLOPE_TOLERANCE = 0.1;
@@ -62,6 +63,8 @@ export interface WindowChoice extends LagWindow {
   found: boolean;
   /** Why not, when not found. */
   reason: string | null;
+  /** Stable code of `reason` (src/estimate.ts), null when found. */
+  reasonCode: string | null;
 }
 
 /** Options of the automatic window. */
@@ -96,7 +99,7 @@ export function diffusiveWindow(
   const minPoints = opts.minPoints ?? MIN_WINDOW_POINTS;
   const cap = Math.min(maxLagIndex(frames, opts.maxFraction), Math.min(time.length, y.length) - 1, opts.maxLag ?? Infinity);
   if (cap < 2) {
-    return { from: 1, to: Math.max(1, cap), found: false, reason: `only ${frames} frames: no lags to fit` };
+    return { from: 1, to: Math.max(1, cap), found: false, reason: `only ${frames} frames: no lags to fit`, reasonCode: 'msd.too-few-frames' };
   }
   const beta = logLogSlopes(time, y);
   let best: LagWindow | null = null;
@@ -109,7 +112,7 @@ export function diffusiveWindow(
       start = -1;
     }
   }
-  if (best && best.to - best.from + 1 >= minPoints) return { ...best, found: true, reason: null };
+  if (best && best.to - best.from + 1 >= minPoints) return { ...best, found: true, reason: null, reasonCode: null };
   const fallback = { from: Math.max(1, Math.ceil(cap / 5)), to: cap };
   const longest = best ? best.to - best.from + 1 : 0;
   return {
@@ -118,6 +121,7 @@ export function diffusiveWindow(
     reason:
       `no run of at least ${minPoints} lags where d ln MSD/d ln t stays within 1 ± ${tol} ` +
       `(longest ${longest}) among lags 1–${cap}; fitted over the fallback window (lags ${fallback.from}–${fallback.to})`,
+    reasonCode: 'msd.not-linear',
   };
 }
 
@@ -153,6 +157,8 @@ export interface SegmentPlan {
   ok: boolean;
   /** What was changed, or why there is no uncertainty. */
   notes: string[];
+  /** The same, coded (src/estimate.ts), one for one with `notes`. */
+  reasons: Reason[];
 }
 
 /**
@@ -174,26 +180,26 @@ export function planSegments(
   const lowest = Math.min(want, MIN_SEGMENTS);
   for (let m = want; m >= lowest; m--) {
     const limit = limitFor(m);
-    const notes: string[] = [];
-    if (m !== want) notes.push(`${m} segments instead of ${want}, so that the fit window fits in one`);
-    if (window.to <= limit) return { segments: m, segmentFrames: Math.floor(frames / m), window: { ...window }, ok: true, notes };
+    const reasons: Reason[] = [];
+    if (m !== want) reasons.push(reason('segments.fewer', `${m} segments instead of ${want}, so that the fit window fits in one`));
+    if (window.to <= limit) {
+      return { segments: m, segmentFrames: Math.floor(frames / m), window: { ...window }, ok: true, notes: reasons.map((r) => r.text), reasons };
+    }
     if (mayShrink && limit - window.from + 1 >= minPoints) {
-      notes.push(
+      reasons.push(reason(
+        'segments.window-shortened',
         `fit window end moved from lag ${window.to} to ${limit} so that it fits in a segment of ${Math.floor(frames / m)} frames`,
-      );
-      return { segments: m, segmentFrames: Math.floor(frames / m), window: { from: window.from, to: limit }, ok: true, notes };
+      ));
+      return { segments: m, segmentFrames: Math.floor(frames / m), window: { from: window.from, to: limit }, ok: true, notes: reasons.map((r) => r.text), reasons };
     }
   }
-  return {
-    segments: 0,
-    segmentFrames: 0,
-    window: { ...window },
-    ok: false,
-    notes: [
-      `the fit window (lags ${window.from}–${window.to}) does not fit in ${lowest} independent segments of the run ` +
-        `(${frames} frames): no uncertainty can be given; run longer or fit an earlier window`,
-    ],
-  };
+  const none = reason(
+    'segments.window-too-long',
+    `the fit window (lags ${window.from}–${window.to}) does not fit in ${lowest} independent segments of the run ` +
+      `(${frames} frames): no uncertainty can be given; run longer or fit an earlier window`,
+    'not-converged',
+  );
+  return { segments: 0, segmentFrames: 0, window: { ...window }, ok: false, notes: [none.text], reasons: [none] };
 }
 
 /** Outcome of the automatic window search among the lags a segment holds. */
@@ -212,6 +218,8 @@ export interface SegmentedWindow {
   ok: boolean;
   /** What was chosen and why ("not converged: …" for a failure). */
   notes: string[];
+  /** The same, coded (src/estimate.ts), one for one with `notes` (which are their `convergenceNote` form). */
+  reasons: Reason[];
 }
 
 /**
@@ -241,15 +249,16 @@ export function segmentedDiffusiveWindow(
     if (!firstUsable) firstUsable = { m, cap, choice };
     if (choice.found) {
       const capWant = maxLagIndex(Math.floor(frames / want), opts.maxFraction);
-      const notes =
+      const reasons =
         m !== want
-          ? [`${m} segments instead of ${want}: the lags 1–${capWant} a segment of ${want} holds contain no diffusive window of at least ${minPoints} lags`]
+          ? [reason('segments.fewer', `${m} segments instead of ${want}: the lags 1–${capWant} a segment of ${want} holds contain no diffusive window of at least ${minPoints} lags`)]
           : [];
-      return { window: { from: choice.from, to: choice.to }, found: true, segments: m, segmentFrames: L, cap, ok: true, notes };
+      return { window: { from: choice.from, to: choice.to }, found: true, segments: m, segmentFrames: L, cap, ok: true, notes: reasons.map((r) => r.text), reasons };
     }
   }
   if (firstUsable) {
     const { m, cap, choice } = firstUsable;
+    const r = reason(choice.reasonCode!, `${choice.reason}${m !== want ? ` (${m} segments)` : ''}`, 'not-converged');
     return {
       window: { from: choice.from, to: choice.to },
       found: false,
@@ -257,10 +266,20 @@ export function segmentedDiffusiveWindow(
       segmentFrames: Math.floor(frames / m),
       cap,
       ok: true,
-      notes: [`not converged: ${choice.reason}${m !== want ? ` (${m} segments)` : ''}`],
+      notes: [convergenceNote(r)],
+      reasons: [r],
     };
   }
   const whole = diffusiveWindow(time, y, frames, opts);
+  const reasons = [
+    ...(whole.found ? [] : [reason(whole.reasonCode!, whole.reason!, 'not-converged')]),
+    reason(
+      'segments.window-too-long',
+      `the fit window (lags ${whole.from}–${whole.to}) does not fit in ${lowest} independent segments of the run ` +
+        `(${frames} frames; a segment must hold at least ${minPoints} lags): no uncertainty can be given; run longer`,
+      'not-converged',
+    ),
+  ];
   return {
     window: { from: whole.from, to: whole.to },
     found: false,
@@ -268,11 +287,8 @@ export function segmentedDiffusiveWindow(
     segmentFrames: 0,
     cap: whole.to,
     ok: false,
-    notes: [
-      ...(whole.found ? [] : [`not converged: ${whole.reason}`]),
-      `not converged: the fit window (lags ${whole.from}–${whole.to}) does not fit in ${lowest} independent segments of the run ` +
-        `(${frames} frames; a segment must hold at least ${minPoints} lags): no uncertainty can be given; run longer`,
-    ],
+    notes: reasons.map(convergenceNote),
+    reasons,
   };
 }
 
@@ -323,7 +339,7 @@ export function plateauWindow(
   const last = Math.min(opts.last ?? values.length - 1, values.length - 1);
   const span = Math.max(MIN_PLATEAU_POINTS, Math.round(frac * last));
   if (last - span < 1) {
-    return { from: 1, to: Math.max(1, last), found: false, reason: `no plateau: only ${last} lags, fewer than a span of ${span} + 1` };
+    return { from: 1, to: Math.max(1, last), found: false, reason: `no plateau: only ${last} lags, fewer than a span of ${span} + 1`, reasonCode: 'plateau.too-few-lags' };
   }
   for (let i = 1; i + span <= last; i++) {
     const ref = values[i];
@@ -336,13 +352,14 @@ export function plateauWindow(
         break;
       }
     }
-    if (ok) return { from: i, to: i + span, found: true, reason: null };
+    if (ok) return { from: i, to: i + span, found: true, reason: null, reasonCode: null };
   }
   return {
     from: last - span,
     to: last,
     found: false,
     reason: `no plateau: the running integral never stays within ±${tol * 100}% over a span of ${span} lags; the value is its mean over the last span`,
+    reasonCode: 'plateau.not-found',
   };
 }
 
@@ -363,6 +380,8 @@ export interface PlateauDrift {
   drifting: boolean;
   /** The reason when not checked or drifting ("running integral keeps drifting …"), else null. */
   reason: string | null;
+  /** Stable code of `reason` (src/estimate.ts): 'plateau.drift-unchecked' or 'plateau.drifting'; null without a reason. */
+  reasonCode: string | null;
 }
 
 /** How far past the plateau end the drift check looks: up to this multiple of the end lag. */
@@ -400,6 +419,7 @@ export function plateauDriftCheck(
       reason:
         `only ${Math.max(0, end - window.to)} lag(s) after the plateau inside a segment (fewer than ${MIN_PLATEAU_POINTS}): ` +
         'cannot check that the running integral stays on it',
+      reasonCode: 'plateau.drift-unchecked',
     };
   }
   const drift = windowMean(full, later) - plateauMean;
@@ -423,6 +443,7 @@ export function plateauDriftCheck(
         `${((100 * drift) / Math.abs(plateauMean)).toFixed(0)} %` +
         (error !== null ? ` (${(Math.abs(drift) / error).toFixed(1)} standard errors over ${segments.length} segments)` : '')
       : null,
+    reasonCode: drifting ? 'plateau.drifting' : null,
   };
 }
 

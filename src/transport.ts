@@ -3,9 +3,18 @@
  * D, Nernst–Einstein conductivity, Stokes–Einstein radius, limiting molar conductivity of one
  * ion and the Walden product. All functions are pure and take/return SI units unless a
  * parameter name says otherwise (volumes in Å^3 and box lengths in Å, as elsewhere in sojourn).
+ *
+ * The joins — numbers that combine two measured ones (D∞, r_H, r_H/r_crystal, λ, the Walden
+ * product, ratios of conductivities) — live here once, for the report and `sojourn stokes`
+ * alike. They return Estimates (src/estimate.ts) and keep one rule for a missing uncertainty:
+ * an input without one gives an output without one (null: unknown, never taken as exact), with
+ * a reason naming that input. Uncertainties are propagated to first order (JCGM 100:2008, GUM,
+ * §5.1.2: u²(y) = Σ (∂y/∂x_i)² u²(x_i) for independent inputs); where two inputs of a join are
+ * not independent the derivation is written at the function.
  */
 import { BOLTZMANN, ELEMENTARY_CHARGE, FARADAY, GAS_CONSTANT, CUBIC_ANGSTROM, ANGSTROM } from './units.js';
 import { quantity, type Quantity } from './types.js';
+import { asQuantity, estimate, reason, type Estimate, type Reason } from './estimate.js';
 import { UsageError } from './errors.js';
 import { crystalRadius, SHANNON_RADII, type IonRadius } from './radii.js';
 import { productUncertainty, type ProductTerm } from './numerics/propagation.js';
@@ -122,6 +131,208 @@ export function waldenToConventional(waldenSI: number): number {
 }
 
 // ---------------------------------------------------------------------------------------------
+// Joins: numbers combined from two measured ones, as Estimates
+
+/** How the joined uncertainties are obtained (written into results.json and the report). */
+export const PROPAGATION_RULE =
+  'first-order (linear) propagation of one-standard-error uncertainties, u²(y) = Σ (∂y/∂x_i)² u²(x_i) ' +
+  '(JCGM 100:2008, GUM §5.1.2); inputs from different analyses are treated as independent; ' +
+  'the temperature and the box length are taken as exact';
+
+/** One input of a joined number: what it is, its value and the data window it came from. */
+export interface JoinInput {
+  /** What the input is, as a reason names it ("D(Na), MSD"). */
+  name: string;
+  value: Quantity;
+  /** The data window it came from, in words ('' when it did not come from data). */
+  window: string;
+  /** False when the analysis behind it did not converge. */
+  converged: boolean;
+}
+
+/** A join input: the Quantity part of `value` (an Estimate's extras left out), its name and window. */
+export function joinInput(name: string, value: Quantity, window = '', converged = true): JoinInput {
+  return { name, value: asQuantity(value), window, converged };
+}
+
+/** A join's argument: a named input, or a plain number named by the join. */
+export type JoinArg = Quantity | JoinInput;
+
+function inputOf(a: JoinArg, name: string): JoinInput {
+  return typeof (a as JoinInput).value === 'object' ? (a as JoinInput) : joinInput(name, a as Quantity);
+}
+
+/**
+ * Uncertainty √(Σ u_i²) of independent contributions (GUM eq. 10 with the sensitivities already
+ * applied). A null contribution means "unknown" (its input's uncertainty could not be estimated),
+ * never "exact" — an exact input is passed as 0 or left out — so one null makes the result null:
+ * a total from the other contributions alone would look precise without being so.
+ */
+export function rootSumSquares(parts: ReadonlyArray<number | null>): number | null {
+  if (parts.some((p) => p === null)) return null;
+  return Math.sqrt(parts.reduce<number>((s, p) => s + p! ** 2, 0));
+}
+
+/** Names of the inputs of a join whose uncertainty is unknown (null). */
+export function inputsWithoutUncertainty(inputs: readonly JoinInput[]): string[] {
+  return inputs.filter((i) => i.value.uncertainty === null).map((i) => i.name);
+}
+
+/**
+ * The reasons a joined number inherits from its inputs: 'join.input-not-converged' (verdict
+ * 'not-converged') naming the inputs whose analysis did not converge, and
+ * 'join.input-without-uncertainty' (verdict 'unreliable') naming those without an uncertainty,
+ * which leave the joined number without one. None when every input converged with one. A
+ * number built on an unconverged input, or without an error bar, is not one to rely on (common
+ * practice, no source).
+ */
+export function joinReasons(inputs: readonly JoinInput[]): Reason[] {
+  const out: Reason[] = [];
+  const notConverged = inputs.filter((i) => !i.converged).map((i) => i.name);
+  const unknown = inputsWithoutUncertainty(inputs);
+  if (notConverged.length) out.push(reason('join.input-not-converged', `inputs not converged: ${notConverged.join(', ')}`, 'not-converged'));
+  if (unknown.length) {
+    out.push(reason('join.input-without-uncertainty', `no uncertainty, because ${unknown.join(' and ')} ${unknown.length > 1 ? 'have' : 'has'} none`, 'unreliable'));
+  }
+  return out;
+}
+
+/**
+ * Verdict of a joined number from its inputs, in words: 'inputs converged' when every input
+ * converged and has an uncertainty (ok), otherwise the texts of `joinReasons` joined by "; ".
+ */
+export function joinVerdict(inputs: readonly JoinInput[]): { verdict: string; ok: boolean } {
+  const reasons = joinReasons(inputs);
+  return reasons.length === 0 ? { verdict: 'inputs converged', ok: true } : { verdict: reasons.map((r) => r.text).join('; '), ok: false };
+}
+
+/**
+ * A joined number as an Estimate: value, uncertainty (computed by the caller with the rule above:
+ * null when an input has none) and unit, no window (the inputs carry theirs), and the verdict and
+ * reasons of `joinReasons(inputs)`.
+ */
+export function joinEstimate(value: number, uncertainty: number | null, unit: string, inputs: readonly JoinInput[]): Estimate {
+  return estimate(value, uncertainty, unit, { reasons: joinReasons(inputs) });
+}
+
+/**
+ * Finite-size-corrected self-diffusion coefficient D∞ = D_PBC + ΔD, ΔD = k_B T ξ/(6π η L),
+ * ξ = 2.837297 (Yeh & Hummer, J. Phys. Chem. B 108, 15873 (2004); `yehHummerCorrection`).
+ * First-order uncertainty with T and L exact: u²(D∞) = u²(D_PBC) + (ΔD · u(η)/η)², since
+ * ∂ΔD/∂η = −ΔD/η. A null (unknown) uncertainty of D or η makes u(D∞) null; a null u(η) also makes
+ * u(ΔD) null. D in m²/s, η in Pa s, T in K, L in Å.
+ */
+export function yehHummerJoin(diffusion: JoinArg, viscosity: JoinArg, temperatureK: number, boxLengthA: number): { corrected: Estimate; correction: Estimate } {
+  const d = inputOf(diffusion, 'the diffusion coefficient');
+  const eta = inputOf(viscosity, 'the viscosity');
+  const dd = yehHummerCorrection(temperatureK, eta.value.value, boxLengthA);
+  const uCorr = eta.value.uncertainty === null ? null : (dd * eta.value.uncertainty) / Math.abs(eta.value.value);
+  return {
+    correction: joinEstimate(dd, uCorr, 'm^2/s', [eta]),
+    corrected: joinEstimate(d.value.value + dd, rootSumSquares([d.value.uncertainty, uCorr]), 'm^2/s', [d, eta]),
+  };
+}
+
+/**
+ * Stokes–Einstein hydrodynamic radius r = k_B T/(c π η D∞) (c = 6 stick, 4 slip; Einstein 1905;
+ * `stokesEinsteinRadius`) from the finite-size-corrected D∞ = D + k_B T ξ/(6π η L) (Yeh & Hummer
+ * 2004), or from D itself when `boxLengthA` is null. D∞ depends on η, so the two are not
+ * independent: with X = η D∞ = η D + k_B T ξ/(6π L), r = k_B T/(c π X) and, to first order with T
+ * and L exact, u(X)² = (D u(η))² + (η u(D))², u(r) = r · u(X)/X. Without the correction
+ * u(r)/r = √((u(D)/D)² + (u(η)/η)²) (GUM eq. 12). A null (unknown) uncertainty of either input
+ * gives a null u(r). D in m²/s, η in Pa s; returns Å.
+ */
+export function stokesRadiusJoin(diffusion: JoinArg, viscosity: JoinArg, temperatureK: number, boxLengthA: number | null, boundary: Boundary): Estimate {
+  const dIn = inputOf(diffusion, 'the diffusion coefficient');
+  const etaIn = inputOf(viscosity, 'the viscosity');
+  const eta = etaIn.value.value;
+  const D = dIn.value.value;
+  const dInf = boxLengthA === null ? D : D + yehHummerCorrection(temperatureK, eta, boxLengthA);
+  const r = stokesEinsteinRadius(dInf, eta, temperatureK, boundary) / ANGSTROM;
+  let u: number | null;
+  if (boxLengthA === null) {
+    u = productUncertainty(r, [{ value: D, uncertainty: dIn.value.uncertainty, power: -1 }, { value: eta, uncertainty: etaIn.value.uncertainty, power: -1 }]);
+  } else {
+    const X = eta * dInf;
+    const uEta = etaIn.value.uncertainty;
+    const uD = dIn.value.uncertainty;
+    const uX = rootSumSquares([uEta === null ? null : D * uEta, uD === null ? null : eta * uD]);
+    u = uX === null ? null : (Math.abs(r) * uX) / Math.abs(X);
+  }
+  return joinEstimate(r, u, 'A', [dIn, etaIn]);
+}
+
+/**
+ * Stokes–Einstein diffusion coefficient of a sphere of radius r, D = k_B T/(c π η r) (c = 6 stick,
+ * 4 slip; Einstein 1905; `stokesEinsteinDiffusion`), with u(D)/D = √((u(r)/r)² + (u(η)/η)²) to
+ * first order (GUM eq. 12); null when either input has none. r in Å, η in Pa s; returns m²/s.
+ */
+export function stokesDiffusionJoin(radius: JoinArg, viscosity: JoinArg, temperatureK: number, boundary: Boundary): Estimate {
+  const r = inputOf(radius, 'the radius');
+  const eta = inputOf(viscosity, 'the viscosity');
+  const d = stokesEinsteinDiffusion(r.value.value * ANGSTROM, eta.value.value, temperatureK, boundary);
+  const u = productUncertainty(d, [{ value: r.value.value, uncertainty: r.value.uncertainty, power: -1 }, { value: eta.value.value, uncertainty: eta.value.uncertainty, power: -1 }]);
+  return joinEstimate(d, u, 'm^2/s', [r, eta]);
+}
+
+/**
+ * Ratio r_H/r_crystal of a hydrodynamic radius to a tabulated crystal radius (taken as exact: a
+ * table value, src/radii.ts): u = u(r_H)/r_crystal. An Estimate keeps its verdict and reasons;
+ * a plain radius without an uncertainty gives a ratio without one and says so.
+ */
+export function radiusRatioJoin(radius: Quantity | Estimate, crystalRadiusA: number): Estimate {
+  const u = radius.uncertainty === null ? null : radius.uncertainty / crystalRadiusA;
+  const e = radius as Partial<Estimate>;
+  if (e.reasons !== undefined && e.verdict !== undefined) {
+    return estimate(radius.value / crystalRadiusA, u, '1', { verdict: e.verdict, reasons: e.reasons });
+  }
+  return joinEstimate(radius.value / crystalRadiusA, u, '1', [joinInput('the radius', radius)]);
+}
+
+/**
+ * Limiting molar conductivity of one ion from its diffusion coefficient, λ = z²F²D/(RT)
+ * (`limitingMolarConductivity`; Robinson & Stokes 1959), with u(λ) = λ·u(D)/D (T exact); null
+ * when D has none. S m²/mol.
+ */
+export function limitingConductivityJoin(diffusion: JoinArg, charge: number, temperatureK: number): Estimate {
+  const d = inputOf(diffusion, 'the diffusion coefficient');
+  const l = limitingMolarConductivity(charge, d.value.value, temperatureK);
+  return joinEstimate(l, productUncertainty(l, [{ value: d.value.value, uncertainty: d.value.uncertainty }]), 'S m^2/mol', [d]);
+}
+
+/**
+ * Walden product W = Λ η (Walden 1906; `waldenProduct`) in S m² Pa s/mol and in the
+ * conventional S cm² P/mol (× 10⁵), with u(W)/W = √((u(Λ)/Λ)² + (u(η)/η)²) to first order
+ * (GUM eq. 12); null when either input's uncertainty is unknown (null).
+ */
+export function waldenJoin(molarConductivity: JoinArg, viscosity: JoinArg): { si: Estimate; conventional: Estimate } {
+  const lam = inputOf(molarConductivity, 'the molar conductivity');
+  const eta = inputOf(viscosity, 'the viscosity');
+  const w = waldenProduct(lam.value.value, eta.value.value);
+  const u = productUncertainty(w, [
+    { value: lam.value.value, uncertainty: lam.value.uncertainty },
+    { value: eta.value.value, uncertainty: eta.value.uncertainty },
+  ]);
+  return {
+    si: joinEstimate(w, u, 'S m^2 Pa s/mol', [lam, eta]),
+    conventional: joinEstimate(waldenToConventional(w), u === null ? null : waldenToConventional(u), 'S cm^2 P/mol', [lam, eta]),
+  };
+}
+
+/**
+ * Ratio a/b of two independent quantities (ionicity σ_EH/σ_NE, Haven ratio σ_NE/σ_EH) with the
+ * first-order uncertainty |a/b|·√((u_a/a)² + (u_b/b)²) (GUM eq. 12), null when either input's
+ * uncertainty is unknown (null).
+ */
+export function ratioJoin(a: JoinArg, b: JoinArg, unit: string): Estimate {
+  const x = inputOf(a, 'the numerator');
+  const y = inputOf(b, 'the denominator');
+  const r = x.value.value / y.value.value;
+  const u = productUncertainty(r, [{ value: x.value.value, uncertainty: x.value.uncertainty }, { value: y.value.value, uncertainty: y.value.uncertainty, power: -1 }]);
+  return joinEstimate(r, u, unit, [x, y]);
+}
+
+// ---------------------------------------------------------------------------------------------
 // Per-ion summary used by `sojourn stokes` and the report
 
 /** Input of `stokesSummary`: quantities in SI (D m^2/s, η Pa s, Λ S m^2/mol) and radius in Å. */
@@ -186,28 +397,31 @@ export interface StokesResult {
 export function stokesSummary(input: StokesInput): StokesResult {
   const { viscosity: eta, temperatureK: T, boundary } = input;
   const policy = input.missingUncertainty ?? 'unknown';
-  /** Uncertainty of `value` = Π factors^p, reading null uncertainties by the policy. */
-  const propagate = (value: number, terms: ProductTerm[]): number | null => {
-    if (terms.every((t) => t.uncertainty === null)) return null;
-    return productUncertainty(value, terms.map((t) => ({ ...t, exact: policy === 'exact' && t.uncertainty === null })));
+  /**
+   * The inputs of one output as the joins see them. With 'exact', an input the caller gave
+   * without an uncertainty counts as exact (u = 0, contributing nothing), unless every input of
+   * that output lacks one (then there is nothing to propagate and the output has none).
+   */
+  const read = (...inputs: JoinInput[]): JoinInput[] => {
+    if (policy !== 'exact' || inputs.every((i) => i.value.uncertainty === null)) return inputs;
+    return inputs.map((i) => (i.value.uncertainty === null ? { ...i, value: { ...i.value, uncertainty: 0 } } : i));
   };
   const hasD = input.diffusion !== undefined && input.diffusion !== null;
   const hasR = input.radius !== undefined && input.radius !== null;
   if (hasD === hasR) throw new UsageError('give exactly one of a diffusion coefficient and a radius');
   if (!(eta.value > 0)) throw new UsageError('the viscosity must be positive');
   if (!(T > 0)) throw new UsageError('the temperature must be positive');
+  const etaIn = joinInput('viscosity', eta);
   let D: Quantity;
-  let r: Quantity;
+  let r: Estimate | Quantity;
   if (hasD) {
     D = input.diffusion!;
     if (!(D.value > 0)) throw new UsageError('the diffusion coefficient must be positive');
-    const rm = stokesEinsteinRadius(D.value, eta.value, T, boundary) / ANGSTROM;
-    r = quantity(rm, propagate(rm, [{ ...D, power: -1 }, { ...eta, power: -1 }]), 'A');
+    r = stokesRadiusJoin(...(read(joinInput('diffusion', D), etaIn) as [JoinInput, JoinInput]), T, null, boundary);
   } else {
     r = input.radius!;
     if (!(r.value > 0)) throw new UsageError('the radius must be positive');
-    const d = stokesEinsteinDiffusion(r.value * ANGSTROM, eta.value, T, boundary);
-    D = quantity(d, propagate(d, [{ ...r, power: -1 }, { ...eta, power: -1 }]), 'm^2/s');
+    D = asQuantity(stokesDiffusionJoin(...(read(joinInput('radius', r), etaIn) as [JoinInput, JoinInput]), T, boundary));
   }
   let crystal: IonRadius | null = null;
   const species = input.species ?? null;
@@ -217,27 +431,19 @@ export function stokesSummary(input: StokesInput): StokesResult {
       throw new UsageError(`no tabulated Shannon radius for "${species}"; known ions: ${SHANNON_RADII.map((x) => x.name).join(', ')}`);
     }
   }
-  const ratio = crystal ? quantity(r.value / crystal.radiusA, r.uncertainty === null ? null : r.uncertainty / crystal.radiusA, '1') : null;
-  let lambda: Quantity | null = null;
-  if (crystal) {
-    const l = limitingMolarConductivity(crystal.charge, D.value, T);
-    lambda = quantity(l, propagate(l, [D]), 'S m^2/mol');
-  }
+  const ratio = crystal ? asQuantity(radiusRatioJoin(r, crystal.radiusA)) : null;
+  const lambda = crystal ? asQuantity(limitingConductivityJoin(read(joinInput('diffusion', D))[0], crystal.charge, T)) : null;
   let walden: Quantity | null = null;
   let waldenConv: Quantity | null = null;
   const L = input.molarConductivity ?? null;
   if (L !== null) {
-    const w = waldenProduct(L.value, eta.value);
-    walden = quantity(w, propagate(w, [L, eta]), 'S m^2 Pa s/mol');
-    waldenConv = quantity(
-      waldenToConventional(w),
-      walden.uncertainty === null ? null : waldenToConventional(walden.uncertainty),
-      'S cm^2 P/mol',
-    );
+    const w = waldenJoin(...(read(joinInput('molarConductivity', L), etaIn) as [JoinInput, JoinInput]));
+    walden = asQuantity(w.si);
+    waldenConv = asQuantity(w.conventional);
   }
   const given: Array<[string, Quantity | null]> = [[hasD ? 'diffusion' : 'radius', hasD ? D : r], ['viscosity', eta], ['molarConductivity', L]];
   return {
-    hydrodynamicRadius: r,
+    hydrodynamicRadius: asQuantity(r),
     diffusion: D,
     viscosity: eta,
     temperature: quantity(T, null, 'K'),

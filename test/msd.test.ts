@@ -307,6 +307,9 @@ describe('few segments: Student-t widening', () => {
     const se = sampleStandardDeviation(g.segmentDiffusion) / Math.sqrt(3);
     expect(relDiff(g.diffusion.uncertainty!, se * t)).toBeLessThan(1e-9);
     expect(g.notes.join(' ')).toMatch(/only 3 independent segments/);
+    // A caution, not a failure: coded, and the verdict stays ok.
+    expect(g.reasons.map((x) => x.code)).toContain('segments.student-t');
+    expect(g.diffusion.verdict).toBe(g.converged ? 'ok' : 'not-converged');
     // The rule text names the count actually used.
     expect(r.rules.uncertainty).toMatch(/M = 3 independent segments/);
   });
@@ -448,6 +451,9 @@ describe('too little data', () => {
     expect(g.converged).toBe(false);
     expect(g.diffusion.uncertainty).toBeNull();
     expect(g.notes.join(' ')).toMatch(/not converged: the fit window .* does not fit in 3 independent segments/);
+    // The same, coded (src/estimate.ts), on the Estimate of D.
+    expect(g.diffusion.verdict).toBe('not-converged');
+    expect(g.diffusion.reasons.map((x) => x.code)).toContain('segments.window-too-long');
   });
 });
 

@@ -204,6 +204,7 @@ describe('ideal gas: g(r) = 1 within binomial noise', () => {
     const { result } = runPass(baseSpec([{ a: 'all', b: 'all' }]), fr.slice(0, 3), topo);
     expect(result.pairs[0].converged).toBe(false);
     expect(result.pairs[0].notes.join(' ')).toMatch(/no correlation time can be measured/);
+    expect(result.pairs[0].reasons.map((x) => x.code)).toContain('rdf.too-few-frames');
   });
 
   it('error bars from blocks match the binomial SD of g', () => {

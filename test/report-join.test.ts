@@ -1,5 +1,6 @@
 /**
- * The report's joins and plumbing, checked against hand computations with published constants,
+ * The joins (src/transport.ts, shared by the report and `sojourn stokes`) and the report's
+ * plumbing, checked against hand computations with published constants,
  * numerical derivatives (for the first-order propagation), the selection syntax, and the file
  * system (atomic directory output).
  */
@@ -7,24 +8,24 @@ import { describe, expect, it, afterAll } from 'vitest';
 import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import { chargeLayoutOnStore, chooseRdfPairs, labelSelection, ALL_PAIRS_MAX_LABELS } from '../src/report/choose.js';
+import { finiteQuantities, shellQuote } from '../src/report/build.js';
+import { ionName } from '../src/report/joins.js';
+import { vacfSamplingProblem, VACF_SAMPLING_RATIO } from '../src/report/sections/diffusion.js';
+import { trapezoidExponentialBias } from '../src/numerics/trapezoid.js';
 import {
-  chargeLayoutOnStore,
-  chooseRdfPairs,
-  finiteQuantities,
   inputsWithoutUncertainty,
-  ionName,
+  joinInput,
   joinVerdict,
-  labelSelection,
+  limitingConductivityJoin,
+  radiusRatioJoin,
+  ratioJoin,
   rootSumSquares,
-  shellQuote,
+  stokesDiffusionJoin,
   stokesRadiusJoin,
-  trapezoidExponentialBias,
-  vacfSamplingProblem,
-  VACF_SAMPLING_RATIO,
   waldenJoin,
   yehHummerJoin,
-  ALL_PAIRS_MAX_LABELS,
-} from '../src/report/build.js';
+} from '../src/transport.js';
 import { MANIFEST, inspectReportTarget, stageDirectory, writeReportDirectory } from '../src/report/write.js';
 import { selectAtoms } from '../src/selection.js';
 import { speciesLayout } from '../analyses/msd.js';
@@ -176,6 +177,39 @@ describe('joins when an input has no uncertainty (unknown is not exact)', () => 
       ok: false,
     });
     expect(joinVerdict([{ ...dIn, value: D, converged: true }, etaIn])).toEqual({ verdict: 'inputs converged', ok: true });
+  });
+
+  it('every join gives an Estimate whose reason names the input without an uncertainty', () => {
+    // The rule (JCGM 100:2008 §5.1.2 needs u(x_i) of every input): unknown stays unknown, and the
+    // joined number says which input lacked one (code 'join.input-without-uncertainty').
+    const dIn = joinInput('D(Na), MSD', dUnknown, 'fit 10–50 ps');
+    const etaIn = joinInput('shear viscosity η (Green–Kubo)', ETA, 'fit 0–2 ps');
+    const unknownReason = { code: 'join.input-without-uncertainty', text: 'no uncertainty, because D(Na), MSD has none', verdict: 'unreliable' };
+    const joined = [
+      yehHummerJoin(dIn, etaIn, T, L).corrected,
+      stokesRadiusJoin(dIn, etaIn, T, L, 'stick'),
+      limitingConductivityJoin(dIn, 1, T),
+      ratioJoin(dIn, etaIn, '1'),
+    ];
+    for (const e of joined) {
+      expect(e.uncertainty).toBeNull();
+      expect(e.reasons).toEqual([unknownReason]);
+      expect(e.verdict).toBe('unreliable');
+    }
+    // Only η matters for ΔD: with η known the correction keeps its uncertainty and its verdict.
+    expect(yehHummerJoin(dIn, etaIn, T, L).correction.verdict).toBe('ok');
+    // A plain number is named by the join; an unconverged input makes the join not converged.
+    expect(stokesDiffusionJoin(quantity(2.38, null, 'A'), ETA, T, 'stick').reasons[0].text).toBe('no uncertainty, because the radius has none');
+    const late = waldenJoin(joinInput('molar conductivity Λ', quantity(126.45e-4, 0.5e-4, 'S m^2/mol'), 'fit 1–5 ps', false), etaIn);
+    expect(late.si.verdict).toBe('not-converged');
+    expect(late.conventional.reasons.map((r) => r.code)).toEqual(['join.input-not-converged']);
+    // r_H/r_crystal keeps the radius' verdict and reasons (the crystal radius is a table value).
+    const r = stokesRadiusJoin(dIn, etaIn, T, L, 'stick');
+    expect(radiusRatioJoin(r, 1.02).reasons).toEqual(r.reasons);
+    // And with every uncertainty known: ok, no reasons, the same numbers as the checks above.
+    const ok = stokesRadiusJoin(joinInput('D', D), etaIn, T, L, 'stick');
+    expect([ok.verdict, ok.reasons.length]).toEqual(['ok', 0]);
+    expect(ok.uncertainty).not.toBeNull();
   });
 });
 

@@ -7,6 +7,7 @@ import { describe, expect, it } from 'vitest';
 import type { Frame, PassContext, Topology } from '../src/types.js';
 import { ornsteinUhlenbeck } from '../src/random.js';
 import { plateauWindow, windowMean } from '../src/fit.js';
+import { convergenceNote } from '../src/estimate.js';
 import { cosineSpectrum, plateauWithSegments, vacfPass, WAVENUMBER_PER_THZ, type VacfPassOptions, type VacfResult } from '../analyses/vacf.js';
 import { mergeStores, type StorePartial } from '../analyses/msd.js';
 
@@ -195,6 +196,11 @@ describe('a correlation that never decays', () => {
     expect(g.plateau.found).toBe(false);
     expect(g.converged).toBe(false);
     expect(g.notes.join(' ')).toMatch(/no plateau/);
+    // The same, coded (src/estimate.ts): the Estimate of D carries the verdict and the code.
+    expect(g.diffusion.verdict).toBe('not-converged');
+    expect(g.diffusion.reasons.map((x) => x.code)).toContain('plateau.not-found');
+    // Notes and reasons stay one for one (each note is its reason in the "not converged: " form).
+    expect(g.notes).toEqual(g.reasons.map(convergenceNote));
   });
 });
 
@@ -221,6 +227,7 @@ describe('a VACF sampled too coarsely for the trapezoid rule', () => {
     expect(g.samplingOk).toBe(false);
     expect(g.converged).toBe(false);
     expect(g.notes.join(' ')).toMatch(/too coarsely sampled/);
+    expect(g.diffusion.reasons.find((x) => x.code === 'vacf.coarse-sampling')?.verdict).toBe('not-converged');
   });
 });
 
@@ -264,5 +271,6 @@ describe('plateau checked against later lags', () => {
     expect(d.drifting).toBe(true);
     expect(tail.converged).toBe(false);
     expect(tail.notes.join(' ')).toMatch(/running integral keeps drifting/);
+    expect(tail.reasons.map((x) => x.code)).toContain('plateau.drifting');
   });
 });

@@ -1,7 +1,7 @@
 /**
  * The report's choices that passes need while frames are read (so that workers can make them
  * without loading the report writers): which g(r) pairs, and the conductivity layout on the
- * shared coordinate store. Re-exported by src/report/build.ts.
+ * shared coordinate store.
  */
 import type { Topology } from '../types.js';
 import type { SiteLayout } from '../../analyses/msd.js';

@@ -135,11 +135,7 @@ export function renderReportHtml(model: ReportModel): string {
   const e = escapeHtml;
   const ids = new Set<string>();
   const sectionIds = model.sections.map((s) => uniqueId(`sec-${s.id}`, ids));
-  let figureNo = 0;
-  let tableNo = 0;
   const out: string[] = [];
-  const bad = model.summary.filter((r) => !r.ok).length + model.convergence.filter((c) => !c.reliable).length;
-
   out.push('<!DOCTYPE html>');
   out.push('<html lang="en">');
   out.push('<head>');
@@ -151,8 +147,43 @@ export function renderReportHtml(model: ReportModel): string {
   out.push(`<style>${CSS}</style>`);
   out.push('</head>');
   out.push('<body>');
+  headerHtml(model, out);
+  out.push(`<aside class="caution" id="caution" role="note" aria-label="Caution"><span class="sign" aria-hidden="true">⚠</span>${e(CAUTION)}</aside>`);
+  // Table of contents.
+  out.push('<nav aria-label="Contents"><ol>');
+  out.push('<li><a href="#inputs">Inputs</a></li>');
+  out.push('<li><a href="#summary">Summary</a></li>');
+  model.sections.forEach((s, i) => out.push(`<li><a href="#${sectionIds[i]}">${e(s.title)}</a></li>`));
+  out.push('<li><a href="#convergence">Convergence</a></li>');
+  out.push('<li><a href="#warnings">Warnings</a></li>');
+  out.push('</ol></nav>');
+  inputsHtml(model, out);
+  summaryHtml(model, out);
+  sectionsHtml(model.sections, sectionIds, out);
+  convergenceHtml(model, out);
+  // Warnings.
+  out.push('<section id="warnings">');
+  out.push('<h2>Warnings</h2>');
+  if (model.warnings.length === 0) out.push('<p>No warnings.</p>');
+  else {
+    out.push('<ul class="warnings">');
+    for (const w of model.warnings) out.push(`<li>${e(w)}</li>`);
+    out.push('</ul>');
+  }
+  out.push('</section>');
+  out.push('<footer>');
+  out.push(`<p>Produced by sojourn ${e(model.version)} on ${e(model.generated)}.</p>`);
+  out.push(`<p class="caution-repeat"><strong>${e(CAUTION)}</strong></p>`);
+  out.push('</footer>');
+  out.push('</body>');
+  out.push('</html>');
+  return out.join('\n') + '\n';
+}
 
-  // Header.
+/** The page header: title, tool, date, command, and the counts of concerns and warnings. */
+function headerHtml(model: ReportModel, out: string[]): void {
+  const e = escapeHtml;
+  const bad = model.summary.filter((r) => !r.ok).length + model.convergence.filter((c) => !c.reliable).length;
   out.push('<header id="top">');
   out.push(`<h1>${e(model.title)}</h1>`);
   out.push('<dl class="meta">');
@@ -166,19 +197,10 @@ export function renderReportHtml(model: ReportModel): string {
       `${model.warnings.length === 0 ? 'no warnings' : `<a href="#warnings"><strong>${model.warnings.length} warning${plural(model.warnings.length)}</strong></a>`}.</p>`,
   );
   out.push('</header>');
+}
 
-  out.push(`<aside class="caution" id="caution" role="note" aria-label="Caution"><span class="sign" aria-hidden="true">⚠</span>${e(CAUTION)}</aside>`);
-
-  // Table of contents.
-  out.push('<nav aria-label="Contents"><ol>');
-  out.push('<li><a href="#inputs">Inputs</a></li>');
-  out.push('<li><a href="#summary">Summary</a></li>');
-  model.sections.forEach((s, i) => out.push(`<li><a href="#${sectionIds[i]}">${e(s.title)}</a></li>`));
-  out.push('<li><a href="#convergence">Convergence</a></li>');
-  out.push('<li><a href="#warnings">Warnings</a></li>');
-  out.push('</ol></nav>');
-
-  // Inputs and options.
+/** The inputs (path, format, size, frames, SHA-256) and the options in effect. */
+function inputsHtml(model: ReportModel, out: string[]): void {
   out.push('<section id="inputs">');
   out.push('<h2>Inputs</h2>');
   if (model.inputs.length === 0) out.push('<p>No input files.</p>');
@@ -208,8 +230,11 @@ export function renderReportHtml(model: ReportModel): string {
     );
   }
   out.push('</section>');
+}
 
-  // Summary.
+/** The summary table: quantity, value ± uncertainty, unit, method, window, verdict. */
+function summaryHtml(model: ReportModel, out: string[]): void {
+  const e = escapeHtml;
   out.push('<section id="summary">');
   out.push('<h2>Summary</h2>');
   if (model.summary.length === 0) out.push('<p>No results.</p>');
@@ -229,9 +254,14 @@ export function renderReportHtml(model: ReportModel): string {
     out.push('<p>Uncertainties are one standard error. ✓ marks a result judged reliable; ⚠ marks one that is not — read its section before using it.</p>');
   }
   out.push('</section>');
+}
 
-  // Analysis sections.
-  model.sections.forEach((s, i) => {
+/** One <section> per analysis: paragraphs, numbered figures with captions, numbered tables. */
+function sectionsHtml(sections: ReportSection[], sectionIds: string[], out: string[]): void {
+  const e = escapeHtml;
+  let figureNo = 0;
+  let tableNo = 0;
+  sections.forEach((s, i) => {
     out.push(`<section id="${sectionIds[i]}">`);
     out.push(`<h2>${e(s.title)}</h2>`);
     for (const para of (s.text ?? '').split(/\n\s*\n/)) {
@@ -251,8 +281,11 @@ export function renderReportHtml(model: ReportModel): string {
     }
     out.push('</section>');
   });
+}
 
-  // Convergence.
+/** The convergence table: check, verdict, reliable. */
+function convergenceHtml(model: ReportModel, out: string[]): void {
+  const e = escapeHtml;
   out.push('<section id="convergence">');
   out.push('<h2>Convergence</h2>');
   if (model.convergence.length === 0) out.push('<p>No convergence checks were run.</p>');
@@ -268,25 +301,6 @@ export function renderReportHtml(model: ReportModel): string {
     out.push('</tbody></table>');
   }
   out.push('</section>');
-
-  // Warnings.
-  out.push('<section id="warnings">');
-  out.push('<h2>Warnings</h2>');
-  if (model.warnings.length === 0) out.push('<p>No warnings.</p>');
-  else {
-    out.push('<ul class="warnings">');
-    for (const w of model.warnings) out.push(`<li>${e(w)}</li>`);
-    out.push('</ul>');
-  }
-  out.push('</section>');
-
-  out.push('<footer>');
-  out.push(`<p>Produced by sojourn ${e(model.version)} on ${e(model.generated)}.</p>`);
-  out.push(`<p class="caution-repeat"><strong>${e(CAUTION)}</strong></p>`);
-  out.push('</footer>');
-  out.push('</body>');
-  out.push('</html>');
-  return out.join('\n') + '\n';
 }
 
 // ---------------------------------------------------------------------------------------------
