@@ -44,235 +44,21 @@ import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } fro
 import { nernstEinsteinConductivity, nernstEinsteinUncertainty } from '../src/transport.js';
 import { ratioWithUncertainty } from '../src/numerics/propagation.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
-import { correlationSamplingProblem, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
-import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
-  StoreView,
-  analyseMsd,
-  atomSiteMap,
-  driftDescription,
+  correlationSamplingProblem,
   fitSlopeWithSegments,
-  moleculeSiteMap,
-  msdSumFft,
-  requireFrameInterval,
-  storeBytes,
-  storePass,
+  maxLagIndex,
   uncertaintyRuleText,
   windowRuleText,
-  type LayoutSpec,
-  type MsdResult,
-  type ReadInfo,
-  type SiteGroup,
-  type SiteLayout,
-  type StorePartial,
-} from './msd.js';
+  DEFAULT_MAX_FRACTION,
+} from '../src/fit.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
+import { msdSumFft } from '../src/numerics/mean-squared-displacement.js';
+import { chargeText, ionSites, type ChargeRule } from '../src/store/charges.js';
+import { resolveLayout, type ChargedLayout, type IonLayoutSpec } from '../src/store/layout.js';
+import { driftDescription, storeBytes, storePass, StoreView, type StorePartial } from '../src/store/store.js';
+import { analyseMsd, requireFrameInterval, type MsdResult, type ReadInfo } from './msd.js';
 import { plateauWithSegments, velocitySourceOf } from './vacf.js';
-
-// ---------------------------------------------------------------------------------------------
-// Charges
-// ---------------------------------------------------------------------------------------------
-
-/** One entry of a charge option: the atoms a selection picks get `charge` (e). */
-export interface ChargeRule {
-  selection: string;
-  charge: number;
-}
-
-const CHARGE_TAIL = /^(.*)=\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*$/;
-
-/**
- * Parse "SEL=CHARGE,SEL=CHARGE,…" (e.g. "Na=+1,Cl=-1", "res=SOL&el=O=-0.8476"). The charge is the
- * number after the last '='; a piece without one belongs to the next entry, so a selection may
- * itself contain ',' ("OW,HW*=0"). Later entries override earlier ones for the atoms they pick.
- */
-export function parseChargeRules(text: string): ChargeRule[] {
-  const rules: ChargeRule[] = [];
-  let pending = '';
-  for (const piece of text.split(',')) {
-    const joined = pending ? `${pending},${piece}` : piece;
-    const m = CHARGE_TAIL.exec(joined);
-    if (!m || m[1].trim() === '') {
-      pending = joined;
-      continue;
-    }
-    const charge = Number(m[2]);
-    if (!Number.isFinite(charge)) throw new UsageError(`--charges: "${m[2]}" is not a number`);
-    const selection = m[1].trim();
-    parseSelection(selection);
-    rules.push({ selection, charge });
-    pending = '';
-  }
-  if (pending) throw new UsageError(`--charges: "${pending}" has no "=CHARGE"; expected entries like Na=+1,Cl=-1`);
-  if (rules.length === 0) throw new UsageError('--charges: no entries');
-  return rules;
-}
-
-/**
- * Charge per atom (e) from rules, or from the file's formal charges when `rules` is null.
- * Atoms no rule picks are neutral.
- */
-export function atomCharges(topology: Topology, rules: ChargeRule[] | null): Float64Array {
-  if (rules === null) {
-    if (!topology.charges) {
-      throw new UsageError('no charges: give --charges (e.g. Na=+1,Cl=-1) or use a file that carries formal charges');
-    }
-    return Float64Array.from(topology.charges);
-  }
-  const q = new Float64Array(topology.atoms);
-  for (const r of rules) for (const a of selectAtoms(r.selection, topology)) q[a] = r.charge;
-  return q;
-}
-
-/** Format a charge as "+1", "-0.5". */
-function chargeText(q: number): string {
-  return `${q > 0 ? '+' : ''}${Number(q.toPrecision(6))}`;
-}
-
-/** Largest |q − round(q)| (e) for a charge to count as whole. */
-export const WHOLE_CHARGE_TOLERANCE = 1e-6;
-
-/** True for a non-zero whole charge: |q − round(q)| < 1e-6 and round(q) ≠ 0. */
-export function isWholeCharge(q: number): boolean {
-  const n = Math.round(q);
-  return n !== 0 && Math.abs(q - n) < WHOLE_CHARGE_TOLERANCE;
-}
-
-/**
- * Which charged sites of a conductivity layout are ions (rule in the module comment): with
- * `ionAtoms` (the atoms a user selection picks) a site is an ion when all its atoms are picked;
- * with molecule sites, when its net charge is a non-zero whole number; with atom sites, when the
- * atom's charge is a non-zero whole number and, if the file has residues, its molecule's net
- * charge (from the charges of the layout's sites; atoms outside the layout are neutral) equals
- * it. Returns one flag per site and notes on what was left out.
- */
-export function ionSites(
-  topology: Topology,
-  layout: SiteLayout & { siteCharges: Float64Array },
-  ionAtoms: ReadonlySet<number> | null = null,
-): { ion: Uint8Array; notes: string[] } {
-  const { map, siteCharges } = layout;
-  const ion = new Uint8Array(map.count);
-  const notes: string[] = [];
-  const atomsOf = (s: number) => Array.from(map.atoms.subarray(map.start[s], map.start[s + 1]));
-  if (ionAtoms) {
-    for (let s = 0; s < map.count; s++) ion[s] = atomsOf(s).every((a) => ionAtoms.has(a)) ? 1 : 0;
-  } else if (layout.molecules) {
-    for (let s = 0; s < map.count; s++) ion[s] = isWholeCharge(siteCharges[s]) ? 1 : 0;
-  } else {
-    const res = topology.residues;
-    const qAtom = new Float64Array(topology.atoms);
-    for (let s = 0; s < map.count; s++) if (map.start[s + 1] - map.start[s] === 1) qAtom[map.atoms[map.start[s]]] = siteCharges[s];
-    let net: Float64Array | null = null;
-    let charged: Int32Array | null = null;
-    let firstAtom: Int32Array | null = null;
-    if (res) {
-      net = new Float64Array(res.count);
-      charged = new Int32Array(res.count);
-      firstAtom = new Int32Array(res.count).fill(-1);
-      for (let a = 0; a < topology.atoms; a++) {
-        const m = res.molecule[a];
-        net[m] += qAtom[a];
-        if (qAtom[a] !== 0) charged[m]++;
-        if (firstAtom[m] < 0) firstAtom[m] = a;
-      }
-    }
-    const molecularIons = new Set<string>();
-    for (let s = 0; s < map.count; s++) {
-      const atoms = atomsOf(s);
-      if (atoms.length !== 1 || !isWholeCharge(siteCharges[s])) continue;
-      const a = atoms[0];
-      if (res && net && Math.abs(net[res.molecule[a]] - siteCharges[s]) >= WHOLE_CHARGE_TOLERANCE) continue;
-      ion[s] = 1;
-    }
-    if (res && net && charged && firstAtom) {
-      for (let m = 0; m < res.count; m++) if (charged[m] > 1 && isWholeCharge(net[m])) molecularIons.add(res.names[firstAtom[m]]);
-      if (molecularIons.size) {
-        notes.push(
-          `molecule(s) ${[...molecularIons].join(', ')} carry a whole net charge spread over several atoms: their atoms are not counted as ions ` +
-            '(Nernst–Einstein, concentration); follow molecule centres with --molecules to count them',
-        );
-      }
-    }
-  }
-  let others = 0;
-  for (let s = 0; s < map.count; s++) if (!ion[s] && siteCharges[s] !== 0) others++;
-  if (others > 0) {
-    notes.push(
-      `${others} charged site(s) are not ions (partial charges of neutral molecules${ionAtoms ? ', or not picked by --ions' : ''}): ` +
-        'they enter the collective current (Einstein–Helfand, Green–Kubo) but not the Nernst–Einstein sum or the concentration',
-    );
-  }
-  return { ion, notes };
-}
-
-/**
- * Sites for the conductivity: every charged atom (grouped by label, charge and whether it is an
- * ion, `ionSites`), or with `molecules` every molecule with a non-zero net charge (grouped by
- * residue name and charge). `ions`, when given, is the selection of the atoms to count as ions.
- */
-export function chargeLayout(
-  topology: Topology,
-  q: Float64Array,
-  molecules: boolean,
-  ions: string | null = null,
-): SiteLayout & { siteCharges: Float64Array } {
-  const notes: string[] = [];
-  const keys: string[] = [];
-  const charges: number[] = [];
-  let map;
-  if (molecules) {
-    const res = topology.residues;
-    if (!res) throw new UsageError('--molecules needs residues (a PDB file with residue names and numbers); this file has none');
-    const members: number[][] = Array.from({ length: res.count }, () => []);
-    for (let a = 0; a < topology.atoms; a++) members[res.molecule[a]].push(a);
-    const chosen: number[][] = [];
-    for (const m of members) {
-      const net = m.reduce((s, a) => s + q[a], 0);
-      if (m.length === 0 || Math.abs(net) < 1e-9) continue;
-      chosen.push(m);
-      keys.push(res.names[m[0]]);
-      charges.push(net);
-    }
-    const built = moleculeSiteMap(chosen, topology.masses);
-    if (built.equalWeights) notes.push('some molecules contain atoms of unknown mass: their centres use equal atom weights');
-    map = built.map;
-  } else {
-    const atoms: number[] = [];
-    for (let a = 0; a < topology.atoms; a++) {
-      if (q[a] === 0) continue;
-      atoms.push(a);
-      keys.push(topology.labels[a]);
-      charges.push(q[a]);
-    }
-    map = atomSiteMap(Int32Array.from(atoms));
-  }
-  if (map.count === 0) throw new UsageError('no charged atoms (or molecules): check --charges');
-  const siteCharges = Float64Array.from(charges);
-  const ionAtoms = ions === null ? null : new Set(selectAtoms(ions, topology));
-  // (The notes on what is not an ion are added by analyseConductivity, which repeats this rule.)
-  const { ion } = ionSites(topology, { map, groups: [], molecules, notes: [], siteCharges }, ionAtoms);
-  // Group by key, charge and ion status; a key with several of them gets them in its label.
-  const kinds = new Map<string, Set<string>>();
-  const kindOf = (i: number) => `${charges[i]}|${ion[i]}`;
-  keys.forEach((k, i) => {
-    if (!kinds.has(k)) kinds.set(k, new Set());
-    kinds.get(k)!.add(kindOf(i));
-  });
-  const groups = new Map<string, { sites: number[]; charge: number; ion: boolean }>();
-  keys.forEach((k, i) => {
-    const several = kinds.get(k)!;
-    const chargesOfKey = new Set([...several].map((x) => x.split('|')[0]));
-    let label = k;
-    if (several.size > 1) {
-      label = chargesOfKey.size > 1 ? `${k}(${chargeText(charges[i])})` : k;
-      if (chargesOfKey.size < several.size) label += ion[i] ? '(ion)' : '(in molecule)';
-    }
-    if (!groups.has(label)) groups.set(label, { sites: [], charge: charges[i], ion: ion[i] === 1 });
-    groups.get(label)!.sites.push(i);
-  });
-  const out: SiteGroup[] = [...groups.entries()].map(([label, g]) => ({ label, sites: Int32Array.from(g.sites), charge: g.charge, ion: g.ion }));
-  return { map, groups: out, molecules, notes, siteCharges };
-}
 
 // ---------------------------------------------------------------------------------------------
 // Pure conversions
@@ -440,7 +226,7 @@ export interface ConductivityResult {
  */
 export function analyseConductivity(
   store: StorePartial,
-  layout: SiteLayout & { siteCharges: Float64Array },
+  layout: ChargedLayout,
   ctx: PassContext,
   opts: ConductivityOptions,
   msd?: MsdResult,
@@ -619,20 +405,19 @@ export interface ConductivityPassOptions extends ConductivityOptions {
   keepDrift?: boolean;
 }
 
-/** Layout spec of the conductivity sites for the pass options. */
-export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean; ions?: string | null }): (t: Topology) => SiteLayout & { siteCharges: Float64Array } {
-  return (t) => chargeLayout(t, atomCharges(t, opts.charges), !!opts.molecules, opts.ions ?? null);
+/** Layout spec of the conductivity sites for the pass options (plain data; `resolveLayout` builds it). */
+export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean; ions?: string | null }): IonLayoutSpec {
+  return { kind: 'ions', charges: opts.charges, molecules: !!opts.molecules, ions: opts.ions ?? null };
 }
 
 /** The conductivity Pass: one coordinate store, finished by `analyseConductivity`. */
 export function conductivityPass(opts: ConductivityPassOptions): Pass<StorePartial, ConductivityResult> {
   const layout = conductivityLayout(opts);
-  const spec: LayoutSpec = layout;
-  const store = storePass({ layout: spec, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
+  const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
   return {
     name: 'conductivity',
     create: store.create,
     merge: store.merge,
-    finish: (p, ctx) => analyseConductivity(p, layout(ctx.topology), ctx, opts),
+    finish: (p, ctx) => analyseConductivity(p, resolveLayout(layout, ctx.topology), ctx, opts),
   };
 }

@@ -5,7 +5,9 @@
  * conductivity, each with its uncertainty and fit window.
  */
 import type { Command } from 'commander';
-import { analyseConductivity, conductivityLayout, conductivityPass, parseChargeRules, type ConductivityResult } from '../../analyses/conductivity.js';
+import { analyseConductivity, conductivityLayout, conductivityPass, type ConductivityResult } from '../../analyses/conductivity.js';
+import { parseChargeRules } from '../store/charges.js';
+import { resolveLayout } from '../store/layout.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import {
   addMemoryOption,
@@ -157,11 +159,11 @@ export function register(program: Command): void {
     if (plan) {
       const mo = { fitFrom: wo.fitFrom, fitTo: wo.fitTo, tolerance: wo.tolerance, segments: copts.segments, nonGaussian: false };
       const b = await batchedMsd(file, opts, plan, layoutSpec, !opts.keepDrift, mo, warnings, {
-        collectiveCharges: (l) => (l as ReturnType<typeof layoutSpec>).siteCharges,
+        collectiveCharges: true,
         collectiveVelocities: copts.greenKubo,
       });
       run = b.run;
-      const layout = layoutSpec(b.ctx.topology);
+      const layout = resolveLayout(layoutSpec, b.ctx.topology);
       results = analyseConductivity(b.store, layout, b.ctx, copts, b.result, { reads: b.result.reads, bytesHeld: b.result.bytesHeld, note: b.result.memoryNote ?? undefined });
     } else {
       const pass = conductivityPass(copts);

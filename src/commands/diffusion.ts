@@ -12,14 +12,13 @@ import {
   msdSums,
   planeComponents,
   requireFrameInterval,
-  speciesLayout,
-  storePass,
   type GroupSums,
   type MsdOptions,
   type MsdPlan,
   type MsdResult,
-  type SiteLayout,
 } from '../../analyses/msd.js';
+import { resolveLayout, speciesSpec, type LayoutSpec } from '../store/layout.js';
+import { storePass, type StorePartial } from '../store/store.js';
 import {
   addVacfSums,
   analyseVacf,
@@ -51,8 +50,6 @@ import {
 import { finishPasses } from '../runner.js';
 import { formatSig, formatTable } from '../output.js';
 import { quantity, type Quantity } from '../types.js';
-import type { StorePartial } from '../../analyses/msd.js';
-import type { Topology } from '../types.js';
 import { CAUTION } from '../caution.js';
 import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../numerics/compare.js';
 
@@ -94,7 +91,7 @@ export async function batchedDiffusion(
   file: string,
   opts: TrajectoryOptions,
   plan: SiteBatchPlan,
-  layoutSpec: (t: Topology) => SiteLayout,
+  layoutSpec: LayoutSpec,
   removeDrift: boolean,
   mo: MsdOptions,
   vo: VacfOptions,
@@ -106,7 +103,7 @@ export async function batchedDiffusion(
   let vplan: VacfPlan | null = null;
   const comps = planeComponents(mo.plane);
   const b = await readStoreInBatches(file, opts, plan, () => ({ layout: layoutSpec, removeDrift, keepVelocities: true }), warnings, (store, batch, run) => {
-    const layout = layoutSpec(run.ctx.topology);
+    const layout = resolveLayout(layoutSpec, run.ctx.topology);
     const dt = requireFrameInterval(run.ctx);
     const gs = groupSitesInBatch(layout, batch);
     mplan ??= msdPlan(store.frames, dt, mo, true);
@@ -116,7 +113,7 @@ export async function batchedDiffusion(
     msums = msums ? msums.map((s, i) => addGroupSums(s, m[i]!)) : m;
     vsums = vsums ? vsums.map((s, i) => addVacfSums(s, v[i]!)) : v;
   });
-  const layout = layoutSpec(b.ctx.topology);
+  const layout = resolveLayout(layoutSpec, b.ctx.topology);
   const read = { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
   const msd = finishMsd(msums!, mplan!, b.info, layout, b.ctx, mo, read);
   const vacf = finishVacf(vsums!, vplan!, b.info, layout, b.ctx, vo, read);
@@ -192,7 +189,7 @@ export function register(program: Command): void {
     const po = plateauOptions(opts);
     const so = siteOptions(opts);
     const vo: VacfOptions = { ...po, plane: so.plane };
-    const layoutSpec = (t: Topology) => speciesLayout(t, so);
+    const layoutSpec = speciesSpec(so);
     // One store serves both: positions (24 B per site and frame) and, when the file has them,
     // velocities (another 24 B).
     const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes);
@@ -208,7 +205,7 @@ export function register(program: Command): void {
       const pass = storePass({ layout: layoutSpec, removeDrift: !so.keepDrift, keepVelocities: true });
       run = await runOnTrajectory(file, opts, [pass], warnings);
       const store = finishPasses([pass], run.partials, run.ctx).store as StorePartial;
-      const layout = layoutSpec(run.ctx.topology);
+      const layout = resolveLayout(layoutSpec, run.ctx.topology);
       msd = analyseMsd(store, layout, run.ctx, mo);
       vacf = analyseVacf(store, layout, run.ctx, vo);
       memory = { reads: 1, bytesHeld: msd.bytesHeld, memoryNote: null };

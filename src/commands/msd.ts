@@ -13,19 +13,17 @@ import {
   msdSums,
   planeComponents,
   requireFrameInterval,
-  speciesLayout,
   YEH_HUMMER_PLANE_ERROR,
   type GroupSums,
   type MsdOptions,
   type MsdPlan,
   type MsdResult,
-  type SiteLayout,
-  type SpeciesLayoutOptions,
-  type StoreOptions,
-  type StorePartial,
 } from '../../analyses/msd.js';
+import { resolveLayout, speciesSpec, type LayoutSpec } from '../store/layout.js';
+import type { SiteLayout, SpeciesLayoutOptions } from '../store/sites.js';
+import type { StoreOptions, StorePartial } from '../store/store.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type SiteBatchPlan } from './batching.js';
-import type { PassContext, Topology } from '../types.js';
+import type { PassContext } from '../types.js';
 import type { TrajectoryRun } from './common.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
 import { finishPasses } from '../runner.js';
@@ -149,7 +147,7 @@ export async function batchedMsd(
   file: string,
   opts: TrajectoryOptions,
   plan: SiteBatchPlan,
-  layoutSpec: (t: Topology) => SiteLayout,
+  layoutSpec: LayoutSpec,
   removeDrift: boolean,
   mo: MsdOptions,
   warnings: string[],
@@ -166,13 +164,13 @@ export async function batchedMsd(
     (_batch, i) => ({ layout: layoutSpec, removeDrift, keepVelocities: false, ...(i === 0 ? firstRead : {}) }),
     warnings,
     (store, batch, run) => {
-      const layout = layoutSpec(run.ctx.topology);
+      const layout = resolveLayout(layoutSpec, run.ctx.topology);
       mplan ??= msdPlan(store.frames, requireFrameInterval(run.ctx), mo, true);
       const part = msdSums(store, layout, mplan, planeComponents(mo.plane), groupSitesInBatch(layout, batch));
       sums = sums ? sums.map((s, i) => addGroupSums(s, part[i]!)) : part;
     },
   );
-  const layout = layoutSpec(r.ctx.topology);
+  const layout = resolveLayout(layoutSpec, r.ctx.topology);
   const result = finishMsd(sums!, mplan!, r.info, layout, r.ctx, mo, { reads: r.reads, bytesHeld: r.bytesHeld, note: r.note });
   return { result, run: r.first, store: r.info, layout, ctx: r.ctx };
 }
@@ -263,7 +261,7 @@ export function register(program: Command): void {
     const mo = msdOptionsFrom(opts);
     if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
     const so = siteOptions(opts);
-    const layoutSpec = (t: Topology) => speciesLayout(t, so);
+    const layoutSpec = speciesSpec(so);
     const plan = await planSiteBatches(file, opts, layoutSpec, 24);
     let results: MsdResult;
     let run: TrajectoryRun;

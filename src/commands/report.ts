@@ -32,17 +32,17 @@ import {
   msdPlan,
   msdSums,
   planeComponents,
-  speciesLayout,
-  storePass,
   yehHummerBoxLength,
   type GroupSums,
   type MsdOptions,
   type MsdPlan,
   type MsdResult,
   type ReadInfo,
-  type SiteLayout,
-  type StorePartial,
 } from '../../analyses/msd.js';
+import { chargesFor, parseChargeRules, type ChargeRule } from '../store/charges.js';
+import { resolveLayout, speciesSpec, type LayoutSpec, type SpeciesLayoutSpec } from '../store/layout.js';
+import type { SiteLayout } from '../store/sites.js';
+import { storePass, type StorePartial } from '../store/store.js';
 import {
   addVacfSums,
   analyseVacf,
@@ -55,7 +55,7 @@ import {
   type VacfPlan,
   type VacfResult,
 } from '../../analyses/vacf.js';
-import { analyseConductivity, atomCharges, parseChargeRules, type ChargeRule, type ConductivityResult } from '../../analyses/conductivity.js';
+import { analyseConductivity, type ConductivityResult } from '../../analyses/conductivity.js';
 import { analyseViscosity, shearComponents, type StressColumns } from '../../analyses/viscosity.js';
 import { analyseSeries } from '../../analyses/converge.js';
 import { addTrajectoryOptions, parsePositiveTime, printWarnings, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
@@ -69,7 +69,7 @@ import { parseQuantity, UNIT_FACTORS } from '../units.js';
 import { AnalysisError, UsageError } from '../errors.js';
 import { refuseOverwritingInputs, toJson, type InputRecord } from '../output.js';
 import { VERSION } from '../version.js';
-import type { Pass, PassContext, Topology } from '../types.js';
+import type { Pass, PassContext } from '../types.js';
 import type { Boundary } from '../transport.js';
 import { chargeLayoutOnStore, chooseRdfPairs, type RdfPairChoice } from '../report/choose.js';
 // The report writers (plots, HTML) are loaded only when a report is written, not in workers.
@@ -96,13 +96,6 @@ interface ReportCliOptions extends TrajectoryOptions {
 
 /** Result of the report's g(r) pass: the g(r) result and the pairs, or why it was not run. */
 export type ReportRdf = { result: ReturnType<ReturnType<typeof rdfPass>['finish']>; pairs: RdfPairChoice[]; rule: string } | { skipped: string };
-
-/** Charges per atom from --charges rules, else the file's formal charges when any is non-zero, else null. */
-export function chargesFor(topology: Topology, rules: ChargeRule[] | null): Float64Array | null {
-  if (rules) return atomCharges(topology, rules);
-  if (topology.charges && topology.charges.some((q) => q !== 0)) return Float64Array.from(topology.charges);
-  return null;
-}
 
 /**
  * The g(r) pass of the report. Its pairs depend on the labels, which are known only when the
@@ -233,7 +226,7 @@ async function batchedReport(
   file: string,
   opts: ReportCliOptions,
   plan: SiteBatchPlan,
-  layoutSpec: (t: Topology) => SiteLayout,
+  layoutSpec: SpeciesLayoutSpec,
   rules: ChargeRule[] | null,
   streaming: Pass[],
   warnings: string[],
@@ -247,15 +240,13 @@ async function batchedReport(
   let vsums: VacfGroupSums[] | null = null;
   let clSums: GroupSums[] | null = null;
   let cl: ReturnType<typeof chargeLayoutOnStore> | null = null;
-  const chargedLayout = (t: Topology) => {
-    const l = layoutSpec(t);
-    return { ...l, siteCharges: chargesFor(t, rules) ?? new Float64Array(l.map.count) };
-  };
+  // The store's sites carry the charges of `chargesFor` (0 without any), for Σq r and Σq v.
+  const chargedLayout: LayoutSpec = { ...layoutSpec, charges: { rules } };
   const storeOptions = (_: Int32Array, i: number) => ({
     layout: chargedLayout,
     removeDrift: true,
     keepVelocities: true,
-    ...(i === 0 ? { collectiveCharges: (l: SiteLayout) => (l as ReturnType<typeof chargedLayout>).siteCharges } : {}),
+    ...(i === 0 ? { collectiveCharges: true } : {}),
   });
   const b = await readStoreInBatches(
     file,
@@ -267,7 +258,7 @@ async function batchedReport(
       const dt = run.ctx.frameInterval;
       if (dt === null) return false;
       const topology = run.ctx.topology;
-      const layout = layoutSpec(topology);
+      const layout = resolveLayout(layoutSpec, topology);
       if (i === 0) {
         // An AnalysisError here (too few frames) is reported when the analysis finishes.
         try {
@@ -309,7 +300,7 @@ async function batchedReport(
     streaming,
   );
   const { ctx, info } = b;
-  const layout = layoutSpec(ctx.topology);
+  const layout = resolveLayout(layoutSpec, ctx.topology);
   const read: ReadInfo = { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
   const need = <T>(x: T | null, error: unknown): T => {
     if (error) throw error;
@@ -368,7 +359,7 @@ export function register(program: Command): void {
     refuseInputsInside(opts.out, inputPaths);
     // The store holds every atom: positions, and velocities when the file has them; per frame the
     // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
-    const layoutSpec = (t: Topology) => speciesLayout(t, {});
+    const layoutSpec = speciesSpec({});
     const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
 
     // Workers (and a run whose partials are handed to a parent) only read frames: no output.
@@ -401,7 +392,7 @@ export function register(program: Command): void {
         ctx = run.ctx;
         storeP = run.partials[2] as StorePartial;
         streamed = [run.partials[0], run.partials[1], ...run.partials.slice(3)];
-        finishers = storeFinishers(storeP, layoutSpec(ctx.topology), ctx);
+        finishers = storeFinishers(storeP, resolveLayout(layoutSpec, ctx.topology), ctx);
       }
       const topology = ctx.topology;
       const skipped: Record<string, string> = {};
@@ -430,7 +421,7 @@ export function register(program: Command): void {
         });
         for (const [l, set] of byLabel) if (set.size === 1) labelCharges.set(l, [...set][0]);
       }
-      const layout = layoutSpec(topology);
+      const layout = resolveLayout(layoutSpec, topology);
       let msd: MsdResult | null = null;
       let vacf: VacfResult | null = null;
       let conductivity: ConductivityResult | null = null;

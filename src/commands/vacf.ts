@@ -16,7 +16,8 @@ import {
   type VacfPlan,
   type VacfResult,
 } from '../../analyses/vacf.js';
-import { planeComponents, requireFrameInterval, speciesLayout, type SiteLayout } from '../../analyses/msd.js';
+import { planeComponents, requireFrameInterval } from '../../analyses/msd.js';
+import { resolveLayout, speciesSpec, type LayoutSpec } from '../store/layout.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import {
   addMemoryOption,
@@ -31,7 +32,6 @@ import {
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type FirstFrameInfo, type SiteBatchPlan } from './batching.js';
 import { finishPasses } from '../runner.js';
 import { checkOutputFile, formatSig, formatTable, toCsv, writeFileAtomic } from '../output.js';
-import type { Topology } from '../types.js';
 import { CAUTION } from '../caution.js';
 
 interface VacfCliOptions extends TrajectoryOptions, SiteCliOptions, PlateauCliOptions {
@@ -58,7 +58,7 @@ export async function batchedVacf(
   file: string,
   opts: TrajectoryOptions,
   plan: SiteBatchPlan,
-  layoutSpec: (t: Topology) => SiteLayout,
+  layoutSpec: LayoutSpec,
   removeDrift: boolean,
   vo: VacfOptions,
   warnings: string[],
@@ -67,12 +67,12 @@ export async function batchedVacf(
   let sums: VacfGroupSums[] | null = null;
   let vplan: VacfPlan | null = null;
   const b = await readStoreInBatches(file, opts, plan, () => ({ layout: layoutSpec, removeDrift, keepVelocities: true }), warnings, (store, batch, run) => {
-    const layout = layoutSpec(run.ctx.topology);
+    const layout = resolveLayout(layoutSpec, run.ctx.topology);
     vplan ??= vacfPlan(velocityFrames(store), vo);
     const part = vacfSums(store, layout, vplan, comps, requireFrameInterval(run.ctx), groupSitesInBatch(layout, batch));
     sums = sums ? sums.map((s, i) => addVacfSums(s, part[i]!)) : part;
   });
-  const result = finishVacf(sums!, vplan!, b.info, layoutSpec(b.ctx.topology), b.ctx, vo, { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note });
+  const result = finishVacf(sums!, vplan!, b.info, resolveLayout(layoutSpec, b.ctx.topology), b.ctx, vo, { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note });
   return { result, run: b.first };
 }
 
@@ -156,7 +156,7 @@ export function register(program: Command): void {
     if (opts.csv) checkOutputFile(opts.csv, [file], '--csv');
     if (opts.spectrumCsv) checkOutputFile(opts.spectrumCsv, [file], '--spectrum-csv');
     const so = siteOptions(opts);
-    const layoutSpec = (t: Topology) => speciesLayout(t, so);
+    const layoutSpec = speciesSpec(so);
     const plan = await planSiteBatches(file, opts, layoutSpec, vacfStoreBytes);
     let results: VacfResult;
     let run: TrajectoryRun;

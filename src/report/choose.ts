@@ -4,7 +4,7 @@
  * shared coordinate store. Re-exported by src/report/build.ts.
  */
 import type { Topology } from '../types.js';
-import type { SiteLayout } from '../../analyses/msd.js';
+import type { SiteLayout } from '../store/sites.js';
 
 // ---------------------------------------------------------------------------------------------
 // Which g(r) pairs
