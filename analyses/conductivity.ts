@@ -220,6 +220,110 @@ export interface ConductivityResult {
 }
 
 /**
+ * Every charged group of the layout with its MSD diffusion coefficient, split into the ions (the
+ * Nernst–Einstein sum and the concentration) and the other charged sites (current only), by
+ * `ionSites` or the groups' own ion flags. Notes go to `notes`.
+ */
+function conductivitySpecies(
+  layout: ChargedLayout,
+  m: MsdResult,
+  ctx: PassContext,
+  opts: ConductivityOptions,
+  notes: string[],
+): { all: ConductivitySpecies[]; species: ConductivitySpecies[]; otherCharged: ConductivitySpecies[] } {
+  const ionAtoms = opts.ions ? new Set(selectAtoms(opts.ions, ctx.topology)) : null;
+  const ionInfo = ionSites(ctx.topology, layout, ionAtoms);
+  for (const n of ionInfo.notes) if (!notes.includes(n)) notes.push(n);
+  const all: ConductivitySpecies[] = layout.groups.map((g, i) => {
+    const r = m.groups[i];
+    let ion = g.ion;
+    if (ion === undefined) {
+      const flags = Array.from(g.sites, (s) => ionInfo.ion[s]);
+      ion = flags.every((x) => x === 1);
+      if (!ion && flags.some((x) => x === 1)) notes.push(`group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`);
+    }
+    return {
+      label: g.label,
+      count: g.sites.length,
+      charge: g.charge ?? 0,
+      ion,
+      segments: r.segments,
+      diffusion: r.diffusion,
+      fit: { from: r.fit.from, to: r.fit.to },
+      converged: r.converged,
+      notes: r.notes,
+    };
+  });
+  return { all, species: all.filter((x) => x.ion), otherCharged: all.filter((x) => !x.ion) };
+}
+
+/**
+ * Nernst–Einstein conductivity of the ions with its first-order uncertainty (src/transport.ts);
+ * none when a D has none, NaN when there is no ion. Notes go to `notes`.
+ */
+function nernstEinsteinOf(species: ConductivitySpecies[], V: number, temp: number, notes: string[]): Quantity {
+  if (species.length === 0) {
+    notes.push(
+      'not converged: no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
+        'concentration or molar conductivity; for scaled charges name the ions with --ions',
+    );
+    return quantity(NaN, null, 'S/m');
+  }
+  const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
+  const neValue = nernstEinsteinConductivity(neInput, V, temp);
+  const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
+  const neUnc = allUnc
+    ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
+    : null;
+  if (!allUnc) notes.push('some species D has no uncertainty: the Nernst–Einstein value has none');
+  return quantity(neValue, neUnc, 'S/m');
+}
+
+/** The Green–Kubo conductivity and its checks (null value without velocities). */
+interface GreenKuboConductivity {
+  greenKubo: Quantity | null;
+  plateau: ConductivityResult['greenKuboPlateau'];
+  running: Float64Array | null;
+  converged: boolean;
+  drift: ConductivityResult['greenKuboDrift'];
+}
+
+/**
+ * Green–Kubo conductivity from the charge-current autocorrelation when the store has velocities
+ * (or kept Σ q v): running integral by the trapezoid rule, value on its plateau with the segment
+ * uncertainty and drift check (analyses/vacf.ts `plateauWithSegments`), and the sampling check
+ * (src/fit.ts). Notes go to `notes`.
+ */
+function greenKuboOf(
+  store: StorePartial,
+  view: StoreView,
+  q: Float64Array,
+  run: { T: number; maxLag: number; dt: number; V: number; temp: number },
+  opts: ConductivityOptions,
+  notes: string[],
+): GreenKuboConductivity {
+  const { T, maxLag, dt, V, temp } = run;
+  const out: GreenKuboConductivity = { greenKubo: null, plateau: null, running: null, converged: true, drift: null };
+  if ((opts.greenKubo ?? true) && (store.collective ? store.collectiveVelocity !== null : velocitySourceOf(store) === 'file')) {
+    const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
+    const jj = currentAutocorrelation(view, q, 0, T, maxLag);
+    out.running = toSigma(jj);
+    const pw = plateauWithSegments(out.running, T, { ...opts, timeStep: dt }, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
+    out.greenKubo = quantity(pw.value, pw.error, 'S/m');
+    out.plateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
+    const d = pw.drift;
+    out.drift = d.checked ? { from: d.from * dt, to: d.to * dt, change: d.drift, error: d.error, threshold: d.threshold, drifting: d.drifting } : null;
+    const sampling = correlationSamplingProblem(jj, dt, 'the charge-current autocorrelation');
+    out.converged = pw.converged && sampling === null;
+    notes.push(...pw.notes.map((n) => `Green–Kubo: ${n}`));
+    if (sampling) notes.push(`Green–Kubo: not converged: ${sampling}; the Einstein–Helfand value does not depend on this sampling`);
+  } else if (opts.greenKubo ?? true) {
+    notes.push('Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)');
+  }
+  return out;
+}
+
+/**
  * Conductivity from a finished store whose sites carry charges (`chargeLayout`). `msd` may be
  * given when the per-species MSD analysis of the same store has already run (no second
  * computation); otherwise it is run here without the non-Gaussian parameter.
@@ -259,48 +363,8 @@ export function analyseConductivity(
       nonGaussian: false,
     });
   // Ions (Nernst–Einstein, concentration) and the other charged sites (current only).
-  const ionAtoms = opts.ions ? new Set(selectAtoms(opts.ions, ctx.topology)) : null;
-  const ionInfo = ionSites(ctx.topology, layout, ionAtoms);
-  for (const n of ionInfo.notes) if (!notes.includes(n)) notes.push(n);
-  const all: ConductivitySpecies[] = layout.groups.map((g, i) => {
-    const r = m.groups[i];
-    let ion = g.ion;
-    if (ion === undefined) {
-      const flags = Array.from(g.sites, (s) => ionInfo.ion[s]);
-      ion = flags.every((x) => x === 1);
-      if (!ion && flags.some((x) => x === 1)) notes.push(`group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`);
-    }
-    return {
-      label: g.label,
-      count: g.sites.length,
-      charge: g.charge ?? 0,
-      ion,
-      segments: r.segments,
-      diffusion: r.diffusion,
-      fit: { from: r.fit.from, to: r.fit.to },
-      converged: r.converged,
-      notes: r.notes,
-    };
-  });
-  const species = all.filter((x) => x.ion);
-  const otherCharged = all.filter((x) => !x.ion);
-  let nernstEinstein: Quantity;
-  if (species.length > 0) {
-    const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
-    const neValue = nernstEinsteinConductivity(neInput, V, temp);
-    const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
-    const neUnc = allUnc
-      ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
-      : null;
-    nernstEinstein = quantity(neValue, neUnc, 'S/m');
-    if (!allUnc) notes.push('some species D has no uncertainty: the Nernst–Einstein value has none');
-  } else {
-    nernstEinstein = quantity(NaN, null, 'S/m');
-    notes.push(
-      'not converged: no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
-        'concentration or molar conductivity; for scaled charges name the ions with --ions',
-    );
-  }
+  const { all, species, otherCharged } = conductivitySpecies(layout, m, ctx, opts, notes);
+  const nernstEinstein = nernstEinsteinOf(species, V, temp, notes);
 
   // Einstein–Helfand.
   const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, opts.maxFraction ?? DEFAULT_MAX_FRACTION), opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0));
@@ -312,27 +376,7 @@ export function analyseConductivity(
   notes.push(...sf.notes.map((n) => `Einstein–Helfand: ${n}`));
 
   // Green–Kubo.
-  let greenKubo: Quantity | null = null;
-  let gkPlateau: ConductivityResult['greenKuboPlateau'] = null;
-  let gkRunning: Float64Array | null = null;
-  let gkConverged = true;
-  let gkDrift: ConductivityResult['greenKuboDrift'] = null;
-  if ((opts.greenKubo ?? true) && (store.collective ? store.collectiveVelocity !== null : velocitySourceOf(store) === 'file')) {
-    const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
-    const jj = currentAutocorrelation(view, q, 0, T, maxLag);
-    gkRunning = toSigma(jj);
-    const pw = plateauWithSegments(gkRunning, T, { ...opts, timeStep: dt }, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
-    greenKubo = quantity(pw.value, pw.error, 'S/m');
-    gkPlateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
-    const d = pw.drift;
-    gkDrift = d.checked ? { from: d.from * dt, to: d.to * dt, change: d.drift, error: d.error, threshold: d.threshold, drifting: d.drifting } : null;
-    const sampling = correlationSamplingProblem(jj, dt, 'the charge-current autocorrelation');
-    gkConverged = pw.converged && sampling === null;
-    notes.push(...pw.notes.map((n) => `Green–Kubo: ${n}`));
-    if (sampling) notes.push(`Green–Kubo: not converged: ${sampling}; the Einstein–Helfand value does not depend on this sampling`);
-  } else if (opts.greenKubo ?? true) {
-    notes.push('Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)');
-  }
+  const gk = greenKuboOf(store, view, q, { T, maxLag, dt, V, temp }, opts, notes);
 
   const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1', { oneUnknown: 'nan' }) : quantity(NaN, null, '1');
   let havenRatio: Quantity | null = null;
@@ -349,20 +393,20 @@ export function analyseConductivity(
     molar = quantity(ehValue / c, ehUnc === null ? null : ehUnc / c, 'S m^2/mol');
   } else if (species.length > 0) notes.push('no cations among the ions: no salt concentration and no molar conductivity');
 
-  const greenKuboConverged = greenKubo === null ? null : gkConverged;
-  const converged = sf.converged && gkConverged && species.length > 0 && species.every((s) => s.converged);
+  const greenKuboConverged = gk.greenKubo === null ? null : gk.converged;
+  const converged = sf.converged && gk.converged && species.length > 0 && species.every((s) => s.converged);
   return {
     nernstEinstein,
     einsteinHelfand,
-    greenKubo,
+    greenKubo: gk.greenKubo,
     ionicity,
     havenRatio,
     molarConductivity: molar,
     concentration,
     fit: { from: sf.from, to: sf.to, points: sf.points, automatic: sf.automatic },
-    greenKuboPlateau: gkPlateau,
+    greenKuboPlateau: gk.plateau,
     greenKuboConverged,
-    greenKuboDrift: gkDrift,
+    greenKuboDrift: gk.drift,
     species,
     otherCharged,
     volume: quantity(V, null, 'A^3'),
@@ -373,7 +417,7 @@ export function analyseConductivity(
     curves: {
       time: Float64Array.from(ehCurve, (_, k) => k * dt),
       collectiveMsd: ehCurve,
-      greenKuboRunning: gkRunning,
+      greenKuboRunning: gk.running,
     },
     frames: T,
     frameInterval: dt,
