@@ -9,11 +9,13 @@ import {
   analyseConductivity,
   conductivityLayout,
   conductivityPass,
-  parseChargeRules,
   type ConductivityPassOptions,
   type ConductivityResult,
 } from './conductivity.js';
-import { addGroupSums, finishMsd, msdPlan, msdSums, requireFrameInterval, type GroupSums, type MsdOptions, type MsdPlan, type SiteLayout, type StorePartial } from './msd.js';
+import { addGroupSums, finishMsd, msdPlan, msdSums, requireFrameInterval, type GroupSums, type MsdOptions, type MsdPlan } from './msd.js';
+import type { StorePartial } from '../src/store/store.js';
+import { resolveLayout } from '../src/store/layout.js';
+import { parseChargeRules } from '../src/store/charges.js';
 import { dTable, MSD_WINDOW_OPTIONS } from './msd-analysis.js';
 import { defineAnalysis } from '../src/engine/analysis.js';
 import { plateauOptions, plateauValues, windowValues, type OptionValues } from '../src/engine/options.js';
@@ -156,20 +158,16 @@ export const conductivityAnalysis = defineAnalysis<ConductivityPassOptions, Stor
   render: (file, r) => renderConductivity(file, r),
   outputs: [{ option: 'csv', write: (r) => [['', conductivityCsv(r)]] }],
   sites: {
-    layout: (o, t) => conductivityLayout(o)(t),
+    layout: (o) => conductivityLayout(o),
     // One read holds positions (+ velocities for Green–Kubo) of every ion; batched reads hold
     // positions only, the collective sums Σq r and Σq v being kept per frame by the first read.
     bytesPerSiteFrame: (o) => ({ all: o.greenKubo ? 48 : 24, batch: 24 }),
-    store: (o, first) => {
-      const layout = conductivityLayout(o);
-      return {
-        layout,
-        removeDrift: !o.keepDrift,
-        keepVelocities: false,
-        // The store calls this with the layout built by `layout` above, which carries the site charges.
-        ...(first ? { collectiveCharges: (l: SiteLayout) => (l as ReturnType<typeof layout>).siteCharges, collectiveVelocities: o.greenKubo ?? true } : {}),
-      };
-    },
+    store: (o, first) => ({
+      layout: conductivityLayout(o),
+      removeDrift: !o.keepDrift,
+      keepVelocities: false,
+      ...(first ? { collectiveCharges: true, collectiveVelocities: o.greenKubo ?? true } : {}),
+    }),
     sums(store, layout, groupSites, ctx, o): SpeciesBatchSums {
       const plan = msdPlan(store.frames, requireFrameInterval(ctx), speciesMsdOptions(o), true);
       return { plan, groups: msdSums(store, layout, plan, [0, 1, 2], groupSites) };
@@ -178,7 +176,7 @@ export const conductivityAnalysis = defineAnalysis<ConductivityPassOptions, Stor
     finish(s: SpeciesBatchSums, record, layout, ctx, o) {
       const read = { reads: record.reads, bytesHeld: record.bytesHeld, note: record.note };
       const msd = finishMsd(s.groups, s.plan, record.info, layout, ctx, speciesMsdOptions(o), read);
-      const full = conductivityLayout(o)(ctx.topology);
+      const full = resolveLayout(conductivityLayout(o), ctx.topology);
       return analyseConductivity(record.info, full, ctx, o, msd, { reads: msd.reads, bytesHeld: msd.bytesHeld, note: msd.memoryNote ?? undefined });
     },
   },

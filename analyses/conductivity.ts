@@ -45,238 +45,21 @@ import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } fro
 import { nernstEinsteinConductivity, nernstEinsteinUncertainty } from '../src/transport.js';
 import { ratioWithUncertainty } from '../src/numerics/propagation.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
-import { correlationSamplingProblem, maxLagIndex, DEFAULT_MAX_FRACTION } from '../src/fit.js';
-import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import {
-  StoreView,
-  analyseMsd,
-  atomSiteMap,
-  driftDescription,
+  correlationSamplingProblem,
   fitSlopeWithSegments,
-  moleculeSiteMap,
-  msdSumFft,
-  requireFrameInterval,
-  storeBytes,
-  storePass,
+  maxLagIndex,
   uncertaintyRuleText,
   windowRuleText,
-  type LayoutSpec,
-  type MsdResult,
-  type ReadInfo,
-  type SiteGroup,
-  type SiteLayout,
-  type StorePartial,
-} from './msd.js';
+  DEFAULT_MAX_FRACTION,
+} from '../src/fit.js';
+import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
+import { msdSumFft } from '../src/numerics/mean-squared-displacement.js';
+import { chargeText, ionSites, type ChargeRule } from '../src/store/charges.js';
+import { resolveLayout, type ChargedLayout, type IonLayoutSpec } from '../src/store/layout.js';
+import { driftDescription, storeBytes, storePass, StoreView, type StorePartial } from '../src/store/store.js';
+import { analyseMsd, requireFrameInterval, type MsdResult, type ReadInfo } from './msd.js';
 import { plateauWithSegments, velocitySourceOf } from './vacf.js';
-
-// ---------------------------------------------------------------------------------------------
-// Charges
-// ---------------------------------------------------------------------------------------------
-
-/** One entry of a charge option: the atoms a selection picks get `charge` (e). */
-export interface ChargeRule {
-  selection: string;
-  charge: number;
-}
-
-const CHARGE_TAIL = /^(.*)=\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*$/;
-
-/**
- * Parse "SEL=CHARGE,SEL=CHARGE,…" (e.g. "Na=+1,Cl=-1", "res=SOL&el=O=-0.8476"). The charge is the
- * number after the last '='; a piece without one belongs to the next entry, so a selection may
- * itself contain ',' ("OW,HW*=0"). Later entries override earlier ones for the atoms they pick.
- */
-export function parseChargeRules(text: string): ChargeRule[] {
-  const rules: ChargeRule[] = [];
-  let pending = '';
-  for (const piece of text.split(',')) {
-    const joined = pending ? `${pending},${piece}` : piece;
-    const m = CHARGE_TAIL.exec(joined);
-    if (!m || m[1].trim() === '') {
-      pending = joined;
-      continue;
-    }
-    const charge = Number(m[2]);
-    if (!Number.isFinite(charge)) throw new UsageError(`--charges: "${m[2]}" is not a number`);
-    const selection = m[1].trim();
-    parseSelection(selection);
-    rules.push({ selection, charge });
-    pending = '';
-  }
-  if (pending) throw new UsageError(`--charges: "${pending}" has no "=CHARGE"; expected entries like Na=+1,Cl=-1`);
-  if (rules.length === 0) throw new UsageError('--charges: no entries');
-  return rules;
-}
-
-/**
- * Charge per atom (e) from rules, or from the file's formal charges when `rules` is null.
- * Atoms no rule picks are neutral.
- */
-export function atomCharges(topology: Topology, rules: ChargeRule[] | null): Float64Array {
-  if (rules === null) {
-    if (!topology.charges) {
-      throw new UsageError('no charges: give --charges (e.g. Na=+1,Cl=-1) or use a file that carries formal charges');
-    }
-    return Float64Array.from(topology.charges);
-  }
-  const q = new Float64Array(topology.atoms);
-  for (const r of rules) for (const a of selectAtoms(r.selection, topology)) q[a] = r.charge;
-  return q;
-}
-
-/** Format a charge as "+1", "-0.5". */
-function chargeText(q: number): string {
-  return `${q > 0 ? '+' : ''}${Number(q.toPrecision(6))}`;
-}
-
-/** Largest |q − round(q)| (e) for a charge to count as whole. */
-export const WHOLE_CHARGE_TOLERANCE = 1e-6;
-
-/** True for a non-zero whole charge: |q − round(q)| < 1e-6 and round(q) ≠ 0. */
-export function isWholeCharge(q: number): boolean {
-  const n = Math.round(q);
-  return n !== 0 && Math.abs(q - n) < WHOLE_CHARGE_TOLERANCE;
-}
-
-/**
- * Which charged sites of a conductivity layout are ions (rule in the module comment): with
- * `ionAtoms` (the atoms a user selection picks) a site is an ion when all its atoms are picked;
- * with molecule sites, when its net charge is a non-zero whole number; with atom sites, when the
- * atom's charge is a non-zero whole number and, if the file has residues, its molecule's net
- * charge (from the charges of the layout's sites; atoms outside the layout are neutral) equals
- * it. Returns one flag per site and notes on what was left out.
- */
-export function ionSites(
-  topology: Topology,
-  layout: SiteLayout & { siteCharges: Float64Array },
-  ionAtoms: ReadonlySet<number> | null = null,
-): { ion: Uint8Array; notes: string[]; reasons: Reason[] } {
-  const { map, siteCharges } = layout;
-  const ion = new Uint8Array(map.count);
-  const notes: string[] = [];
-  const reasons: Reason[] = [];
-  const atomsOf = (s: number) => Array.from(map.atoms.subarray(map.start[s], map.start[s + 1]));
-  if (ionAtoms) {
-    for (let s = 0; s < map.count; s++) ion[s] = atomsOf(s).every((a) => ionAtoms.has(a)) ? 1 : 0;
-  } else if (layout.molecules) {
-    for (let s = 0; s < map.count; s++) ion[s] = isWholeCharge(siteCharges[s]) ? 1 : 0;
-  } else {
-    const res = topology.residues;
-    const qAtom = new Float64Array(topology.atoms);
-    for (let s = 0; s < map.count; s++) if (map.start[s + 1] - map.start[s] === 1) qAtom[map.atoms[map.start[s]]] = siteCharges[s];
-    let net: Float64Array | null = null;
-    let charged: Int32Array | null = null;
-    let firstAtom: Int32Array | null = null;
-    if (res) {
-      net = new Float64Array(res.count);
-      charged = new Int32Array(res.count);
-      firstAtom = new Int32Array(res.count).fill(-1);
-      for (let a = 0; a < topology.atoms; a++) {
-        const m = res.molecule[a];
-        net[m] += qAtom[a];
-        if (qAtom[a] !== 0) charged[m]++;
-        if (firstAtom[m] < 0) firstAtom[m] = a;
-      }
-    }
-    const molecularIons = new Set<string>();
-    for (let s = 0; s < map.count; s++) {
-      const atoms = atomsOf(s);
-      if (atoms.length !== 1 || !isWholeCharge(siteCharges[s])) continue;
-      const a = atoms[0];
-      if (res && net && Math.abs(net[res.molecule[a]] - siteCharges[s]) >= WHOLE_CHARGE_TOLERANCE) continue;
-      ion[s] = 1;
-    }
-    if (res && net && charged && firstAtom) {
-      for (let m = 0; m < res.count; m++) if (charged[m] > 1 && isWholeCharge(net[m])) molecularIons.add(res.names[firstAtom[m]]);
-      if (molecularIons.size) {
-        noteReason(notes, reasons, reason(
-          'conductivity.molecular-ions-as-atoms',
-          `molecule(s) ${[...molecularIons].join(', ')} carry a whole net charge spread over several atoms: their atoms are not counted as ions ` +
-            '(Nernst–Einstein, concentration); follow molecule centres with --molecules to count them',
-        ));
-      }
-    }
-  }
-  let others = 0;
-  for (let s = 0; s < map.count; s++) if (!ion[s] && siteCharges[s] !== 0) others++;
-  if (others > 0) {
-    noteReason(notes, reasons, reason(
-      'conductivity.partial-charges',
-      `${others} charged site(s) are not ions (partial charges of neutral molecules${ionAtoms ? ', or not picked by --ions' : ''}): ` +
-        'they enter the collective current (Einstein–Helfand, Green–Kubo) but not the Nernst–Einstein sum or the concentration',
-    ));
-  }
-  return { ion, notes, reasons };
-}
-
-/**
- * Sites for the conductivity: every charged atom (grouped by label, charge and whether it is an
- * ion, `ionSites`), or with `molecules` every molecule with a non-zero net charge (grouped by
- * residue name and charge). `ions`, when given, is the selection of the atoms to count as ions.
- */
-export function chargeLayout(
-  topology: Topology,
-  q: Float64Array,
-  molecules: boolean,
-  ions: string | null = null,
-): SiteLayout & { siteCharges: Float64Array } {
-  const notes: string[] = [];
-  const keys: string[] = [];
-  const charges: number[] = [];
-  let map;
-  if (molecules) {
-    const res = topology.residues;
-    if (!res) throw new UsageError('--molecules needs residues (a PDB file with residue names and numbers); this file has none');
-    const members: number[][] = Array.from({ length: res.count }, () => []);
-    for (let a = 0; a < topology.atoms; a++) members[res.molecule[a]].push(a);
-    const chosen: number[][] = [];
-    for (const m of members) {
-      const net = m.reduce((s, a) => s + q[a], 0);
-      if (m.length === 0 || Math.abs(net) < 1e-9) continue;
-      chosen.push(m);
-      keys.push(res.names[m[0]]);
-      charges.push(net);
-    }
-    const built = moleculeSiteMap(chosen, topology.masses);
-    if (built.equalWeights) notes.push('some molecules contain atoms of unknown mass: their centres use equal atom weights');
-    map = built.map;
-  } else {
-    const atoms: number[] = [];
-    for (let a = 0; a < topology.atoms; a++) {
-      if (q[a] === 0) continue;
-      atoms.push(a);
-      keys.push(topology.labels[a]);
-      charges.push(q[a]);
-    }
-    map = atomSiteMap(Int32Array.from(atoms));
-  }
-  if (map.count === 0) throw new UsageError('no charged atoms (or molecules): check --charges');
-  const siteCharges = Float64Array.from(charges);
-  const ionAtoms = ions === null ? null : new Set(selectAtoms(ions, topology));
-  // (The notes on what is not an ion are added by analyseConductivity, which repeats this rule.)
-  const { ion } = ionSites(topology, { map, groups: [], molecules, notes: [], siteCharges }, ionAtoms);
-  // Group by key, charge and ion status; a key with several of them gets them in its label.
-  const kinds = new Map<string, Set<string>>();
-  const kindOf = (i: number) => `${charges[i]}|${ion[i]}`;
-  keys.forEach((k, i) => {
-    if (!kinds.has(k)) kinds.set(k, new Set());
-    kinds.get(k)!.add(kindOf(i));
-  });
-  const groups = new Map<string, { sites: number[]; charge: number; ion: boolean }>();
-  keys.forEach((k, i) => {
-    const several = kinds.get(k)!;
-    const chargesOfKey = new Set([...several].map((x) => x.split('|')[0]));
-    let label = k;
-    if (several.size > 1) {
-      label = chargesOfKey.size > 1 ? `${k}(${chargeText(charges[i])})` : k;
-      if (chargesOfKey.size < several.size) label += ion[i] ? '(ion)' : '(in molecule)';
-    }
-    if (!groups.has(label)) groups.set(label, { sites: [], charge: charges[i], ion: ion[i] === 1 });
-    groups.get(label)!.sites.push(i);
-  });
-  const out: SiteGroup[] = [...groups.entries()].map(([label, g]) => ({ label, sites: Int32Array.from(g.sites), charge: g.charge, ion: g.ion }));
-  return { map, groups: out, molecules, notes, siteCharges };
-}
 
 // ---------------------------------------------------------------------------------------------
 // Pure conversions
@@ -449,6 +232,144 @@ export interface ConductivityResult {
   rules: { window: string; uncertainty: string; concentration: string; ratios: string };
 }
 
+/** Notes for people and their coded twins, filled side by side (src/estimate.ts `noteReason`). */
+interface NoteSink {
+  notes: string[];
+  reasons: Reason[];
+}
+
+/**
+ * The charged groups of the layout with their MSD results, split into ions (Nernst–Einstein sum,
+ * concentration) and other charged sites (current only), by `ionSites` or the group's own flag.
+ */
+function conductivitySpecies(
+  layout: ChargedLayout,
+  m: MsdResult,
+  ctx: PassContext,
+  opts: ConductivityOptions,
+  sink: NoteSink,
+): { all: ConductivitySpecies[]; species: ConductivitySpecies[]; otherCharged: ConductivitySpecies[] } {
+  const { notes, reasons } = sink;
+  const ionAtoms = opts.ions ? new Set(selectAtoms(opts.ions, ctx.topology)) : null;
+  const ionInfo = ionSites(ctx.topology, layout, ionAtoms);
+  for (const r of ionInfo.reasons) if (!notes.includes(r.text)) noteReason(notes, reasons, r);
+  const all: ConductivitySpecies[] = layout.groups.map((g, i) => {
+    const r = m.groups[i]!;
+    let ion = g.ion;
+    if (ion === undefined) {
+      const flags = Array.from(g.sites, (s) => ionInfo.ion[s]);
+      ion = flags.every((x) => x === 1);
+      if (!ion && flags.some((x) => x === 1)) {
+        noteReason(notes, reasons, reason('conductivity.mixed-group', `group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`));
+      }
+    }
+    return {
+      label: g.label,
+      count: g.sites.length,
+      charge: g.charge ?? 0,
+      ion,
+      segments: r.segments,
+      diffusion: r.diffusion,
+      fit: { from: r.fit.from, to: r.fit.to },
+      converged: r.converged,
+      notes: r.notes,
+      reasons: r.reasons,
+    };
+  });
+  return { all, species: all.filter((x) => x.ion), otherCharged: all.filter((x) => !x.ion) };
+}
+
+/**
+ * Nernst–Einstein conductivity of the ions with its first-order uncertainty (src/transport.ts):
+ * none when a D has none; 'not-determined' when there is no ion. Its verdict is its inputs' (the
+ * D of every ion species: a join).
+ */
+function nernstEinsteinOf(species: ConductivitySpecies[], V: number, temp: number, sink: NoteSink): Estimate {
+  const { notes, reasons } = sink;
+  if (species.length === 0) {
+    const r = reason(
+      'conductivity.no-ions',
+      'no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
+        'concentration or molar conductivity; for scaled charges name the ions with --ions',
+      'not-converged',
+    );
+    noteReason(notes, reasons, r, '', true);
+    return estimate(NaN, null, 'S/m', { verdict: 'not-determined', reasons: [r] });
+  }
+  const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
+  const neValue = nernstEinsteinConductivity(neInput, V, temp);
+  const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
+  const neUnc = allUnc
+    ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i]!, diffusionError: s.diffusion.uncertainty! })), V, temp)
+    : null;
+  const neReasons: Reason[] = [];
+  const unconverged = species.filter((x) => !x.converged).map((x) => x.label);
+  if (unconverged.length) {
+    neReasons.push(reason('conductivity.ne-input-not-converged', `the MSD diffusion coefficient of ${unconverged.join(', ')} did not converge`, 'not-converged'));
+  }
+  if (!allUnc) {
+    const r = reason('conductivity.ne-without-uncertainty', 'some species D has no uncertainty: the Nernst–Einstein value has none', 'unreliable');
+    noteReason(notes, reasons, r);
+    neReasons.push(r);
+  }
+  return estimate(neValue, neUnc, 'S/m', { reasons: neReasons });
+}
+
+/** The Green–Kubo conductivity and its checks (null value without velocities). */
+interface GreenKuboConductivity {
+  greenKubo: Estimate | null;
+  plateau: ConductivityResult['greenKuboPlateau'];
+  running: Float64Array | null;
+  converged: boolean;
+  drift: ConductivityResult['greenKuboDrift'];
+}
+
+/**
+ * Green–Kubo conductivity from the charge-current autocorrelation when the store has velocities
+ * (or kept Σ q v): running integral by the trapezoid rule, value on its plateau with the segment
+ * uncertainty and drift check (analyses/vacf.ts `plateauWithSegments`), and the sampling check
+ * (src/fit.ts). Its reasons go to the sink after "Green–Kubo: ".
+ */
+function greenKuboOf(
+  store: StorePartial,
+  view: StoreView,
+  q: Float64Array,
+  run: { T: number; maxLag: number; dt: number; V: number; temp: number },
+  opts: ConductivityOptions,
+  sink: NoteSink,
+): GreenKuboConductivity {
+  const { T, maxLag, dt, V, temp } = run;
+  const { notes, reasons } = sink;
+  const out: GreenKuboConductivity = { greenKubo: null, plateau: null, running: null, converged: true, drift: null };
+  if ((opts.greenKubo ?? true) && (store.collective ? store.collectiveVelocity !== null : velocitySourceOf(store) === 'file')) {
+    const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
+    const jj = currentAutocorrelation(view, q, 0, T, maxLag);
+    out.running = toSigma(jj);
+    const pw = plateauWithSegments(out.running, T, { ...opts, timeStep: dt }, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
+    out.plateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
+    const d = pw.drift;
+    out.drift = d.checked ? { from: d.from * dt, to: d.to * dt, change: d.drift, error: d.error, threshold: d.threshold, drifting: d.drifting } : null;
+    const sampling = correlationSamplingProblem(jj, dt, 'the charge-current autocorrelation');
+    out.converged = pw.converged && sampling === null;
+    const gkReasons = [...pw.reasons];
+    if (sampling) {
+      gkReasons.push(reason('conductivity.coarse-sampling', `${sampling}; the Einstein–Helfand value does not depend on this sampling`, 'not-converged'));
+    }
+    for (const r of gkReasons) noteReason(notes, reasons, r, 'Green–Kubo: ', true);
+    out.greenKubo = estimate(pw.value, pw.error, 'S/m', {
+      window: { from: out.plateau.from, to: out.plateau.to, unit: 'ps' },
+      verdict: out.converged && pw.error !== null ? 'ok' : 'not-converged',
+      reasons: gkReasons,
+    });
+  } else if (opts.greenKubo ?? true) {
+    noteReason(notes, reasons, reason(
+      'conductivity.no-velocities',
+      'Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)',
+    ));
+  }
+  return out;
+}
+
 /**
  * Conductivity from a finished store whose sites carry charges (`chargeLayout`). `msd` may be
  * given when the per-species MSD analysis of the same store has already run (no second
@@ -456,7 +377,7 @@ export interface ConductivityResult {
  */
 export function analyseConductivity(
   store: StorePartial,
-  layout: SiteLayout & { siteCharges: Float64Array },
+  layout: ChargedLayout,
   ctx: PassContext,
   opts: ConductivityOptions,
   msd?: MsdResult,
@@ -490,64 +411,8 @@ export function analyseConductivity(
       nonGaussian: false,
     });
   // Ions (Nernst–Einstein, concentration) and the other charged sites (current only).
-  const ionAtoms = opts.ions ? new Set(selectAtoms(opts.ions, ctx.topology)) : null;
-  const ionInfo = ionSites(ctx.topology, layout, ionAtoms);
-  for (const r of ionInfo.reasons) if (!notes.includes(r.text)) noteReason(notes, reasons, r);
-  const all: ConductivitySpecies[] = layout.groups.map((g, i) => {
-    const r = m.groups[i];
-    let ion = g.ion;
-    if (ion === undefined) {
-      const flags = Array.from(g.sites, (s) => ionInfo.ion[s]);
-      ion = flags.every((x) => x === 1);
-      if (!ion && flags.some((x) => x === 1)) {
-        noteReason(notes, reasons, reason('conductivity.mixed-group', `group ${g.label} mixes ions and partial-charge sites: it is left out of the Nernst–Einstein sum`));
-      }
-    }
-    return {
-      label: g.label,
-      count: g.sites.length,
-      charge: g.charge ?? 0,
-      ion,
-      segments: r.segments,
-      diffusion: r.diffusion,
-      fit: { from: r.fit.from, to: r.fit.to },
-      converged: r.converged,
-      notes: r.notes,
-      reasons: r.reasons,
-    };
-  });
-  const species = all.filter((x) => x.ion);
-  const otherCharged = all.filter((x) => !x.ion);
-  let nernstEinstein: Estimate;
-  if (species.length > 0) {
-    const neInput = species.map((s) => ({ count: s.count, charge: s.charge, diffusion: s.diffusion.value }));
-    const neValue = nernstEinsteinConductivity(neInput, V, temp);
-    const allUnc = species.every((s) => s.diffusion.uncertainty !== null);
-    const neUnc = allUnc
-      ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i], diffusionError: s.diffusion.uncertainty! })), V, temp)
-      : null;
-    // Its verdict is its inputs': the D of every ion species (a join, src/transport.ts).
-    const neReasons: Reason[] = [];
-    const unconverged = species.filter((x) => !x.converged).map((x) => x.label);
-    if (unconverged.length) {
-      neReasons.push(reason('conductivity.ne-input-not-converged', `the MSD diffusion coefficient of ${unconverged.join(', ')} did not converge`, 'not-converged'));
-    }
-    if (!allUnc) {
-      const r = reason('conductivity.ne-without-uncertainty', 'some species D has no uncertainty: the Nernst–Einstein value has none', 'unreliable');
-      noteReason(notes, reasons, r);
-      neReasons.push(r);
-    }
-    nernstEinstein = estimate(neValue, neUnc, 'S/m', { reasons: neReasons });
-  } else {
-    const r = reason(
-      'conductivity.no-ions',
-      'no site is an ion (no single atom or molecule with a non-zero whole charge): no Nernst–Einstein value, ' +
-        'concentration or molar conductivity; for scaled charges name the ions with --ions',
-      'not-converged',
-    );
-    noteReason(notes, reasons, r, '', true);
-    nernstEinstein = estimate(NaN, null, 'S/m', { verdict: 'not-determined', reasons: [r] });
-  }
+  const { all, species, otherCharged } = conductivitySpecies(layout, m, ctx, opts, { notes, reasons });
+  const nernstEinstein = nernstEinsteinOf(species, V, temp, { notes, reasons });
 
   // Einstein–Helfand.
   const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, opts.maxFraction ?? DEFAULT_MAX_FRACTION), opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0));
@@ -563,37 +428,7 @@ export function analyseConductivity(
   for (const r of sf.reasons) noteReason(notes, reasons, r, 'Einstein–Helfand: ', true);
 
   // Green–Kubo.
-  let greenKubo: Estimate | null = null;
-  let gkPlateau: ConductivityResult['greenKuboPlateau'] = null;
-  let gkRunning: Float64Array | null = null;
-  let gkConverged = true;
-  let gkDrift: ConductivityResult['greenKuboDrift'] = null;
-  if ((opts.greenKubo ?? true) && (store.collective ? store.collectiveVelocity !== null : velocitySourceOf(store) === 'file')) {
-    const toSigma = (c: Float64Array) => cumulativeTrapezoid(c, dt).map((x) => conductivityFromIntegral(x, V, temp));
-    const jj = currentAutocorrelation(view, q, 0, T, maxLag);
-    gkRunning = toSigma(jj);
-    const pw = plateauWithSegments(gkRunning, T, { ...opts, timeStep: dt }, (start, count, lag) => toSigma(currentAutocorrelation(view, q, start, count, lag)));
-    gkPlateau = { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found };
-    const d = pw.drift;
-    gkDrift = d.checked ? { from: d.from * dt, to: d.to * dt, change: d.drift, error: d.error, threshold: d.threshold, drifting: d.drifting } : null;
-    const sampling = correlationSamplingProblem(jj, dt, 'the charge-current autocorrelation');
-    gkConverged = pw.converged && sampling === null;
-    const gkReasons = [...pw.reasons];
-    if (sampling) {
-      gkReasons.push(reason('conductivity.coarse-sampling', `${sampling}; the Einstein–Helfand value does not depend on this sampling`, 'not-converged'));
-    }
-    for (const r of gkReasons) noteReason(notes, reasons, r, 'Green–Kubo: ', true);
-    greenKubo = estimate(pw.value, pw.error, 'S/m', {
-      window: { from: gkPlateau.from, to: gkPlateau.to, unit: 'ps' },
-      verdict: gkConverged && pw.error !== null ? 'ok' : 'not-converged',
-      reasons: gkReasons,
-    });
-  } else if (opts.greenKubo ?? true) {
-    noteReason(notes, reasons, reason(
-      'conductivity.no-velocities',
-      'Green–Kubo value not computed: the file carries no velocities (finite differences are not used for collective currents)',
-    ));
-  }
+  const gk = greenKuboOf(store, view, q, { T, maxLag, dt, V, temp }, opts, { notes, reasons });
 
   const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1') : quantity(NaN, null, '1');
   let havenRatio: Quantity | null = null;
@@ -613,20 +448,20 @@ export function analyseConductivity(
     noteReason(notes, reasons, reason('conductivity.no-cations', 'no cations among the ions: no salt concentration and no molar conductivity'));
   }
 
-  const greenKuboConverged = greenKubo === null ? null : gkConverged;
-  const converged = sf.converged && gkConverged && species.length > 0 && species.every((s) => s.converged);
+  const greenKuboConverged = gk.greenKubo === null ? null : gk.converged;
+  const converged = sf.converged && gk.converged && species.length > 0 && species.every((s) => s.converged);
   return {
     nernstEinstein,
     einsteinHelfand,
-    greenKubo,
+    greenKubo: gk.greenKubo,
     ionicity,
     havenRatio,
     molarConductivity: molar,
     concentration,
     fit: { from: sf.from, to: sf.to, points: sf.points, automatic: sf.automatic },
-    greenKuboPlateau: gkPlateau,
+    greenKuboPlateau: gk.plateau,
     greenKuboConverged,
-    greenKuboDrift: gkDrift,
+    greenKuboDrift: gk.drift,
     species,
     otherCharged,
     volume: quantity(V, null, 'A^3'),
@@ -638,7 +473,7 @@ export function analyseConductivity(
     curves: {
       time: Float64Array.from(ehCurve, (_, k) => k * dt),
       collectiveMsd: ehCurve,
-      greenKuboRunning: gkRunning,
+      greenKuboRunning: gk.running,
     },
     frames: T,
     frameInterval: dt,
@@ -670,20 +505,19 @@ export interface ConductivityPassOptions extends ConductivityOptions {
   keepDrift?: boolean;
 }
 
-/** Layout spec of the conductivity sites for the pass options. */
-export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean; ions?: string | null }): (t: Topology) => SiteLayout & { siteCharges: Float64Array } {
-  return (t) => chargeLayout(t, atomCharges(t, opts.charges), !!opts.molecules, opts.ions ?? null);
+/** Layout spec of the conductivity sites for the pass options (plain data; `resolveLayout` builds it). */
+export function conductivityLayout(opts: { charges: ChargeRule[] | null; molecules?: boolean; ions?: string | null }): IonLayoutSpec {
+  return { kind: 'ions', charges: opts.charges, molecules: !!opts.molecules, ions: opts.ions ?? null };
 }
 
 /** The conductivity Pass: one coordinate store, finished by `analyseConductivity`. */
 export function conductivityPass(opts: ConductivityPassOptions): Pass<StorePartial, ConductivityResult> {
   const layout = conductivityLayout(opts);
-  const spec: LayoutSpec = layout;
-  const store = storePass({ layout: spec, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
+  const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
   return {
     name: 'conductivity',
     create: store.create,
     merge: store.merge,
-    finish: (p, ctx) => analyseConductivity(p, layout(ctx.topology), ctx, opts),
+    finish: (p, ctx) => analyseConductivity(p, resolveLayout(layout, ctx.topology), ctx, opts),
   };
 }

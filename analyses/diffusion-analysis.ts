@@ -13,15 +13,14 @@ import {
   msdSums,
   planeComponents,
   requireFrameInterval,
-  speciesLayout,
-  storePass,
   type GroupSums,
   type MsdOptions,
   type MsdPlan,
   type MsdResult,
-  type SpeciesLayoutOptions,
-  type StorePartial,
 } from './msd.js';
+import { storePass, type StorePartial } from '../src/store/store.js';
+import { resolveLayout, speciesSpec } from '../src/store/layout.js';
+import type { SpeciesLayoutOptions } from '../src/store/sites.js';
 import { addVacfSums, analyseVacf, finishVacf, vacfPlan, vacfStoreBytes, vacfSums, velocityFrames, type VacfGroupSums, type VacfOptions, type VacfPlan, type VacfResult } from './vacf.js';
 import { dTable, MSD_WINDOW_OPTIONS, msdOptionsFrom, yehHummerOptionSpecs } from './msd-analysis.js';
 import { defineAnalysis } from '../src/engine/analysis.js';
@@ -123,13 +122,13 @@ function combine(msd: MsdResult, vacf: VacfResult, memory: { reads: number; byte
 
 /** The pass: one coordinate store with velocities, finished by both analyses. */
 export function diffusionPass(o: DiffusionOptions): Pass<StorePartial, DiffusionResult> {
-  const store = storePass({ layout: (t) => speciesLayout(t, o), removeDrift: !o.keepDrift, keepVelocities: true });
+  const store = storePass({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: true });
   return {
     name: 'diffusion',
     create: store.create,
     merge: store.merge,
     finish(p, ctx) {
-      const layout = speciesLayout(ctx.topology, o);
+      const layout = resolveLayout(speciesSpec(o), ctx.topology);
       const msd = analyseMsd(p, layout, ctx, o.msd);
       const vacf = analyseVacf(p, layout, ctx, o.vacf);
       return combine(msd, vacf, { reads: 1, bytesHeld: msd.bytesHeld, memoryNote: null });
@@ -166,9 +165,9 @@ export const diffusionAnalysis = defineAnalysis<DiffusionOptions, StorePartial, 
   pass: diffusionPass,
   render: (file, r) => renderDiffusion(file, r),
   sites: {
-    layout: (o, t) => speciesLayout(t, o),
+    layout: (o) => speciesSpec(o),
     bytesPerSiteFrame: (_o, first) => ({ all: vacfStoreBytes(first), batch: vacfStoreBytes(first) }),
-    store: (o) => ({ layout: (t) => speciesLayout(t, o), removeDrift: !o.keepDrift, keepVelocities: true }),
+    store: (o) => ({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: true }),
     sums(store, layout, groupSites, ctx, o): DiffusionBatchSums {
       const dt = requireFrameInterval(ctx);
       const comps = planeComponents(o.msd.plane);

@@ -15,7 +15,7 @@ import { vacfAnalysis } from './vacf.js';
 import { msdAnalysis } from './msd-analysis.js';
 import { diffusionAnalysis } from './diffusion-analysis.js';
 import { conductivityAnalysis } from './conductivity-analysis.js';
-import { speciesStorePass } from './msd.js';
+import { storePass } from '../src/store/store.js';
 
 /** The analyses that are commands of their own (src/cli builds one command per entry). */
 export const ANALYSES: readonly AnyAnalysis[] = [rdfAnalysis, shellAnalysis, msdAnalysis, vacfAnalysis, diffusionAnalysis, conductivityAnalysis];
@@ -26,7 +26,7 @@ export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
   overview: () => overviewPass,
   framewise: () => framewiseObservables,
   'rdf-auto': reportRdfPass,
-  'species-store': speciesStorePass,
+  store: storePass,
 };
 
 /** Build the pass `kind` with `options` (plain data), carrying its recipe for threads and merges. */

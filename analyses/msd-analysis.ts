@@ -12,15 +12,15 @@ import {
   msdSums,
   planeComponents,
   requireFrameInterval,
-  speciesLayout,
   YEH_HUMMER_PLANE_ERROR,
   type GroupSums,
   type MsdOptions,
   type MsdPassOptions,
   type MsdPlan,
   type MsdResult,
-  type StorePartial,
 } from './msd.js';
+import type { StorePartial } from '../src/store/store.js';
+import { speciesSpec } from '../src/store/layout.js';
 import { defineAnalysis } from '../src/engine/analysis.js';
 import { PLANE_OPTION, SITE_OPTIONS, siteValues, windowOptionSpecs, windowValues, type OptionSpec, type OptionValues } from '../src/engine/options.js';
 import { UsageError } from '../src/errors.js';
@@ -128,9 +128,9 @@ export const msdAnalysis = defineAnalysis<MsdPassOptions, StorePartial, MsdResul
   render: (file, r) => renderMsd(file, r),
   outputs: [{ option: 'csv', write: (r) => [['', msdCsv(r)]] }],
   sites: {
-    layout: (o, t) => speciesLayout(t, o),
+    layout: (o) => speciesSpec(o),
     bytesPerSiteFrame: () => ({ all: 24, batch: 24 }),
-    store: (o) => ({ layout: (t) => speciesLayout(t, o), removeDrift: !o.keepDrift, keepVelocities: false }),
+    store: (o) => ({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: false }),
     sums(store, layout, groupSites, ctx, o): MsdBatchSums {
       const plan = msdPlan(store.frames, requireFrameInterval(ctx), o, true);
       return { plan, groups: msdSums(store, layout, plan, planeComponents(o.plane), groupSites) };

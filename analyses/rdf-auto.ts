@@ -5,18 +5,11 @@
  */
 import type { Pass, PassContext, Topology } from '../src/types.js';
 import { rdfPass, mergeRdfPartials, type RdfPartial, type RdfSpec } from './rdf.js';
-import { atomCharges, type ChargeRule } from './conductivity.js';
+import { chargesFor, type ChargeRule } from '../src/store/charges.js';
 import { chooseRdfPairs, type RdfPairChoice } from '../src/report/choose.js';
 
 /** Result of the report's g(r) pass: the g(r) result and the pairs, or why it was not run. */
 export type ReportRdf = { result: ReturnType<ReturnType<typeof rdfPass>['finish']>; pairs: RdfPairChoice[]; rule: string } | { skipped: string };
-
-/** Charges per atom from --charges rules, else the file's formal charges when any is non-zero, else null. */
-export function chargesFor(topology: Topology, rules: ChargeRule[] | null): Float64Array | null {
-  if (rules) return atomCharges(topology, rules);
-  if (topology.charges && topology.charges.some((q) => q !== 0)) return Float64Array.from(topology.charges);
-  return null;
-}
 
 /**
  * The g(r) pass of the report. Its pairs depend on the labels, which are known only when the

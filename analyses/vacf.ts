@@ -49,6 +49,7 @@ import {
   plateauWindow,
   segmentFactorNote,
   segmentUncertaintyFactor,
+  uncertaintyRuleText,
   windowMean,
   DRIFT_CHECK_FACTOR,
   DEFAULT_MAX_FRACTION,
@@ -62,22 +63,10 @@ import {
 } from '../src/fit.js';
 import { blockStatistics } from '../src/numerics/block-statistics.js';
 import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
-import {
-  StoreView,
-  gatherSeries,
-  planeComponents,
-  requireFrameInterval,
-  speciesLayout,
-  storeBytes,
-  storePass,
-  driftDescription,
-  uncertaintyRuleText,
-  type LayoutSpec,
-  type ReadInfo,
-  type SiteLayout,
-  type SpeciesLayoutOptions,
-  type StorePartial,
-} from './msd.js';
+import { resolveLayout, speciesSpec } from '../src/store/layout.js';
+import type { SiteLayout, SpeciesLayoutOptions } from '../src/store/sites.js';
+import { driftDescription, gatherSeries, storeBytes, storePass, StoreView, type StorePartial } from '../src/store/store.js';
+import { planeComponents, requireFrameInterval, type ReadInfo } from './msd.js';
 
 /** cm⁻¹ per THz: 1e12 Hz / (c · 100 cm/m) = 33.35641 (c exact, SI). */
 export const WAVENUMBER_PER_THZ = 1e12 / (SPEED_OF_LIGHT * 100);
@@ -590,13 +579,13 @@ export interface VacfPassOptions extends VacfOptions, SpeciesLayoutOptions {
 
 /** The VACF Pass: stores positions and velocities, finishes with `analyseVacf`. */
 export function vacfPass(opts: VacfPassOptions = {}): Pass<StorePartial, VacfResult> {
-  const layout: LayoutSpec = (t) => speciesLayout(t, opts);
+  const layout = speciesSpec(opts);
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: true });
   return {
     name: 'vacf',
     create: store.create,
     merge: store.merge,
-    finish: (p, ctx) => analyseVacf(p, layout(ctx.topology), ctx, opts),
+    finish: (p, ctx) => analyseVacf(p, resolveLayout(layout, ctx.topology), ctx, opts),
   };
 }
 
@@ -714,9 +703,9 @@ export const vacfAnalysis = defineAnalysis<VacfPassOptions, StorePartial, VacfRe
     { option: 'spectrumCsv', write: (r) => [['', spectrumCsv(r)]] },
   ],
   sites: {
-    layout: (o, t) => speciesLayout(t, o),
+    layout: (o) => speciesSpec(o),
     bytesPerSiteFrame: (_o, first) => ({ all: vacfStoreBytes(first), batch: vacfStoreBytes(first) }),
-    store: (o) => ({ layout: (t) => speciesLayout(t, o), removeDrift: !o.keepDrift, keepVelocities: true }),
+    store: (o) => ({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: true }),
     sums(store, layout, groupSites, ctx, o): VacfBatchSums {
       const plan = vacfPlan(velocityFrames(store), o);
       return { plan, groups: vacfSums(store, layout, plan, planeComponents(o.plane), requireFrameInterval(ctx), groupSites) };

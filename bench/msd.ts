@@ -11,8 +11,11 @@
 import type { Frame, PassContext, Topology } from '../src/types.js';
 import { Random } from '../src/random.js';
 import { CellGeometry, orthorhombicCell } from '../src/cell.js';
-import { analyseMsd, storeBytes, storePass } from '../analyses/msd.js';
-import { analyseConductivity, conductivityLayout, parseChargeRules } from '../analyses/conductivity.js';
+import { analyseMsd } from '../analyses/msd.js';
+import { analyseConductivity, conductivityLayout } from '../analyses/conductivity.js';
+import { parseChargeRules } from '../src/store/charges.js';
+import { resolveLayout } from '../src/store/layout.js';
+import { storeBytes, storePass } from '../src/store/store.js';
 
 /** CPU time of this process in ms (user + system): robust on a shared machine, ≈ wall time when idle. */
 function cpuSeconds(): number {
@@ -88,7 +91,7 @@ export function benchMsd(atoms = 1000, frames = 20000): BenchRow[] {
   const store = acc.partial();
   const t1 = cpuSeconds();
   const feed = Math.max(0, t1 - t0 - generation);
-  const lay = layout(topo);
+  const lay = resolveLayout(layout, topo);
   const msd = analyseMsd(store, lay, ctx, {});
   const t2 = cpuSeconds();
   analyseConductivity(store, lay, ctx, { temperature: 300 }, msd);

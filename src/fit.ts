@@ -33,12 +33,13 @@
  *   after it (up to 3× the plateau end, inside a segment) must stay within the segment-based
  *   uncertainty of the change (`plateauDriftCheck`); otherwise "running integral keeps drifting".
  */
-import { UsageError } from './errors.js';
+import { AnalysisError, UsageError } from './errors.js';
 import { blockStatistics } from './numerics/block-statistics.js';
+import { fitLine } from './numerics/line-fit.js';
 import { logLogSlopes } from './numerics/log-slope.js';
 import { ONE_SIGMA_LEVEL, studentTQuantile } from './numerics/student-t.js';
 import { trapezoidExponentialBias } from './numerics/trapezoid.js';
-import { convergenceNote, reason, type Reason } from './estimate.js';
+import { convergenceNote, noteReason, reason, type Reason } from './estimate.js';
 
 /** Default tolerance on |d ln y/d ln t − 1| for the automatic diffusive window. */
 export const DEFAULT_SLOPE_TOLERANCE = 0.1;
@@ -480,4 +481,149 @@ export function correlationSamplingProblem(c: ArrayLike<number>, dt: number, wha
     `${head}; for an exponential decay the integral would come out ${pct(100 * trapezoidExponentialBias(r))} % too large — ` +
     'store frames (velocities) more often'
   );
+}
+
+// ---------------------------------------------------------------------------------------------
+// Slope of an MSD-like curve with its segment uncertainty, and the rules in words
+
+/** Diffusion from one MSD-like curve: the window, slope, D, segments and the verdict. */
+export interface SlopeFit {
+  window: LagWindow;
+  /** Window in ps. */
+  from: number;
+  to: number;
+  points: number;
+  automatic: boolean;
+  slope: number;
+  /** Segment values of the slope, and their standard error (null when no plan works). */
+  segmentSlopes: number[];
+  slopeError: number | null;
+  /** Segments used for the uncertainty (0: none). */
+  segments: number;
+  /** Factor applied to the segment standard error (Student-t for M < 5, else 1). */
+  uncertaintyFactor: number;
+  converged: boolean;
+  notes: string[];
+  /** The notes, coded (src/estimate.ts), one for one: each note is its reason's `convergenceNote`. */
+  reasons: Reason[];
+}
+
+/**
+ * Fit the slope of an MSD-like curve y(m·dt) over the user window or the automatic diffusive
+ * window, and its uncertainty over independent segments whose curves `segmentCurve(start,
+ * frames, maxLag)` computes (rules in src/fit.ts): an automatic window is searched only among
+ * the lags a segment holds (`segmentedDiffusiveWindow`); a user window keeps its lags and the
+ * segment count is reduced until it fits (`planSegments`). The uncertainty is the standard error
+ * over the M segments used, times the Student-t factor t_{0.8413, M−1} when M < 5
+ * (`segmentUncertaintyFactor`).
+ */
+export function fitSlopeWithSegments(
+  curve: Float64Array,
+  dt: number,
+  frames: number,
+  opts: { fitFrom?: number; fitTo?: number; tolerance?: number; maxFraction?: number; segments?: number },
+  segmentCurve: (start: number, count: number, maxLag: number) => Float64Array,
+): SlopeFit {
+  const notes: string[] = [];
+  const reasons: Reason[] = [];
+  const time = Float64Array.from(curve, (_, k) => k * dt);
+  let window: LagWindow;
+  let automatic: boolean;
+  let found = true;
+  let plan: { ok: boolean; segments: number; segmentFrames: number };
+  if (opts.fitFrom !== undefined && opts.fitTo !== undefined) {
+    window = windowFromTimes(opts.fitFrom, opts.fitTo, dt, frames);
+    if (window.to >= curve.length) throw new UsageError(`fit window ends beyond the computed curve (${(curve.length - 1) * dt} ps)`);
+    automatic = false;
+    const p = planSegments(frames, window, { segments: opts.segments ?? DEFAULT_SEGMENTS, maxFraction: 1, mayShrink: false });
+    for (const r of p.reasons) noteReason(notes, reasons, r, '', true);
+    window = p.window;
+    plan = p;
+  } else {
+    const w = segmentedDiffusiveWindow(time, curve, frames, {
+      tolerance: opts.tolerance,
+      maxFraction: opts.maxFraction,
+      segments: opts.segments ?? DEFAULT_SEGMENTS,
+    });
+    window = w.window;
+    automatic = true;
+    found = w.found;
+    for (const r of w.reasons) noteReason(notes, reasons, r, '', true);
+    plan = w;
+  }
+  const points = window.to - window.from + 1;
+  if (points < 3) throw new AnalysisError(`fit window of ${points} lag(s) is too short to fit a line`);
+  const fit = fitLine(time, curve, { from: window.from, to: window.to });
+  const segmentSlopes: number[] = [];
+  let slopeError: number | null = null;
+  let factor = 1;
+  if (plan.ok) {
+    for (let k = 0; k < plan.segments; k++) {
+      const c = segmentCurve(k * plan.segmentFrames, plan.segmentFrames, window.to);
+      segmentSlopes.push(fitLine(time, c, { from: window.from, to: window.to }).slope);
+    }
+    factor = segmentUncertaintyFactor(plan.segments);
+    slopeError = blockStatistics(segmentSlopes).standardError * factor;
+    const fn = segmentFactorNote(plan.segments);
+    if (fn) noteReason(notes, reasons, reason('segments.student-t', fn));
+  }
+  if (points < MIN_WINDOW_POINTS) {
+    noteReason(notes, reasons, reason('msd.window-too-short', `the fit window holds ${points} lags, fewer than ${MIN_WINDOW_POINTS}`, 'not-converged'), '', true);
+  }
+  const converged = found && plan.ok && points >= MIN_WINDOW_POINTS;
+  return {
+    window,
+    from: window.from * dt,
+    to: window.to * dt,
+    points,
+    automatic,
+    slope: fit.slope,
+    segmentSlopes,
+    slopeError,
+    segments: plan.ok ? plan.segments : 0,
+    uncertaintyFactor: factor,
+    converged,
+    notes,
+    reasons,
+  };
+}
+
+
+/** Text of the window rule with the parameters in force. */
+export function windowRuleText(opts: { fitFrom?: number; fitTo?: number; tolerance?: number; maxFraction?: number }): string {
+  if (opts.fitFrom !== undefined && opts.fitTo !== undefined) return `user window ${opts.fitFrom}–${opts.fitTo} ps`;
+  return (
+    `automatic: the longest run of lags up to ${Math.round(100 * (opts.maxFraction ?? DEFAULT_MAX_FRACTION))}% of the run ` +
+    `where d ln MSD/d ln t is within 1 ± ${opts.tolerance ?? DEFAULT_SLOPE_TOLERANCE} (at least ${MIN_WINDOW_POINTS} lags)`
+  );
+}
+
+/**
+ * Text of the uncertainty rule with the segment counts actually used: `used` lists, per result
+ * (group, or one collective curve), the segments its uncertainty rests on (0: none). Without
+ * `used`, the requested count is stated as requested.
+ */
+export function uncertaintyRuleText(opts: { segments?: number }, used?: ReadonlyArray<{ label: string; segments: number }>): string {
+  const want = opts.segments ?? DEFAULT_SEGMENTS;
+  const source = '(block averages: Frenkel & Smit, Understanding Molecular Simulation, 2nd ed., §4.4.1)';
+  const widen =
+    `; with fewer than ${FULL_CONFIDENCE_SEGMENTS} segments multiplied by Student's t(0.8413, M−1) so that ± stays a 68 % confidence half-width (Student 1908)`;
+  if (!used || used.length === 0) {
+    return `standard error over ${want} (requested) independent segments of the run, SD/√M, same window ${source}${widen}`;
+  }
+  const counts = new Map<number, string[]>();
+  for (const u of used) {
+    if (!counts.has(u.segments)) counts.set(u.segments, []);
+    counts.get(u.segments)!.push(u.label);
+  }
+  let how: string;
+  if (counts.size === 1) {
+    const m = [...counts.keys()][0];
+    how = m === 0 ? 'no segments fit: no uncertainty' : `standard error over M = ${m} independent segments of the run`;
+  } else {
+    how =
+      'standard error over M independent segments of the run, M = ' +
+      [...counts.entries()].map(([m, labels]) => `${m === 0 ? 'none' : m} (${labels.join(', ')})`).join('; ');
+  }
+  return `${how} (${want} requested), SD/√M, same window ${source}${widen}`;
 }

@@ -14,12 +14,10 @@ import {
   conductivityFromIntegral,
   conductivityPass,
   einsteinHelfandFromSlope,
-  parseChargeRules,
-  atomCharges,
-  chargeLayout,
   type ConductivityPassOptions,
   type ConductivityResult,
 } from '../analyses/conductivity.js';
+import { atomCharges, chargeLayout, parseChargeRules } from '../src/store/charges.js';
 
 const relDiff = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 

@@ -12,23 +12,17 @@ import { UsageError } from '../src/errors.js';
 import { msdAnalysis } from '../analyses/msd-analysis.js';
 import { readOptionValues } from '../src/engine/options.js';
 import {
-  addSelfTerm,
-  directMsdOfSeries,
   groupCurves,
   groupMsdComponents,
-  logSpacedLags,
-  msdOfSeries,
   msdPass,
-  mergeStores,
-  nonGaussianFromMoments,
   diffusionFromSlope,
-  StoreView,
-  storePass,
-  speciesLayout,
   type MsdResult,
   type MsdPassOptions,
-  type StorePartial,
 } from '../analyses/msd.js';
+import { directMsdOfSeries } from '../src/numerics/mean-squared-displacement.js';
+import { nonGaussianFromMoments } from '../src/numerics/non-gaussian.js';
+import { speciesSpec } from '../src/store/layout.js';
+import { mergeStores, StoreView, storePass, type StorePartial } from '../src/store/store.js';
 
 /** Topology with given labels and masses (elements = labels). */
 function topology(labels: string[], masses?: number[], residues: Residues | null = null): Topology {
@@ -88,51 +82,7 @@ function randomWalks(n: number, frames: number, s: number, seed: number, start =
 
 const relDiff = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 
-describe('MSD of one series: FFT form against the definition', () => {
-  it('equals the direct O(T²) all-origins average to 1e-9 relative', () => {
-    // Truth: MSD(m) = 1/(T−m) Σ_t [x(t+m) − x(t)]², evaluated directly; the FFT route is an exact
-    // algebraic identity (Kneller et al., Comput. Phys. Commun. 91, 191 (1995)), so only round-off
-    // separates them: 1e-9 relative leaves a 1e4 margin over double-precision sums of 1500 terms.
-    const rng = new Random(11);
-    const x = new Float64Array(1500);
-    for (let t = 1; t < x.length; t++) x[t] = x[t - 1] + rng.normal() + 0.05; // walk with drift: large |x|
-    const fft = msdOfSeries(x);
-    const direct = directMsdOfSeries(x);
-    expect(fft[0]).toBe(0);
-    let worst = 0;
-    for (let m = 1; m < x.length; m++) worst = Math.max(worst, relDiff(fft[m], direct[m]));
-    expect(worst).toBeLessThan(1e-9);
-  });
-
-  it('self term S1(m) matches its definition', () => {
-    // Truth: S1(m) = 1/(T−m) Σ_{t<T−m} [x(t)² + x(t+m)²] summed directly (definition in Kneller et al. 1995).
-    // Tolerance 1e-12 relative: the recursion subtracts at most 40 terms of O(1) numbers.
-    const x = Float64Array.from({ length: 40 }, (_, i) => Math.sin(i) + 0.3 * i);
-    const acc = new Float64Array(40);
-    addSelfTerm(x, 39, acc);
-    for (const m of [0, 1, 7, 39]) {
-      let s = 0;
-      for (let t = 0; t + m < 40; t++) s += x[t] ** 2 + x[t + m] ** 2;
-      expect(relDiff(acc[m], s / (40 - m))).toBeLessThan(1e-12);
-    }
-  });
-});
-
 describe('small pure functions', () => {
-  it('logSpacedLags gives round(10^(k/p)) and ends at maxLag', () => {
-    // Truth: 10^(k/2) for k = 0..4 is 1, 3.162, 10, 31.62, 100 → 1, 3, 10, 32, 100 (arithmetic).
-    expect(logSpacedLags(100, 2)).toEqual([1, 3, 10, 32, 100]);
-    expect(logSpacedLags(50, 2)).toEqual([1, 3, 10, 32, 50]);
-  });
-
-  it('non-Gaussian parameter is zero for Gaussian moments in 3-D and 2-D', () => {
-    // Truth: for Gaussian displacements with per-axis variance s², <r²> = d s² and <r⁴> = d(d+2) s⁴
-    // (moments of the chi-square distribution), so α2 = 0 exactly (Rahman, Phys. Rev. 136, A405
-    // (1964)). Tolerance 1e-15: two multiplications and a division.
-    expect(Math.abs(nonGaussianFromMoments(3 * 2.5, 15 * 2.5 ** 2, 3))).toBeLessThan(1e-15);
-    expect(Math.abs(nonGaussianFromMoments(2 * 2.5, 8 * 2.5 ** 2, 2))).toBeLessThan(1e-15);
-  });
-
   it('diffusionFromSlope converts Å²/ps and divides by 2d', () => {
     // Truth: 1 Å²/ps = 1e-20 m² / 1e-12 s = 1e-8 m²/s; D = slope/(2d) (Einstein 1905). 6 Å²/ps in
     // 3-D → 1 Å²/ps → 1e-8 m²/s. Tolerance 1e-15 relative: one product.
@@ -150,7 +100,7 @@ describe('random walks', () => {
   it('store MSD equals the per-atom direct average to 1e-9 relative', () => {
     // Truth: the definition, averaged over atoms and x, y, z, without drift removal (keepDrift),
     // computed directly; FFT and direct differ by round-off only (Kneller et al. 1995).
-    const pass = storePass({ layout: (t) => speciesLayout(t, {}), removeDrift: false });
+    const pass = storePass({ layout: speciesSpec({}), removeDrift: false });
     const ctx = context(topo, dt, null);
     const acc = pass.create(ctx);
     for (const f of framesOf(topo, walks, null)) acc.frame(f);
@@ -465,7 +415,7 @@ describe('curves from one gather', () => {
     const n = 6, frames = 300, dt = 0.01;
     const walks = randomWalks(n, frames, 0.2, 21);
     const topo = topology(Array.from({ length: n }, () => 'A'));
-    const pass = storePass({ layout: (t) => speciesLayout(t, {}), removeDrift: false });
+    const pass = storePass({ layout: speciesSpec({}), removeDrift: false });
     const acc = pass.create(context(topo, dt, null));
     for (const f of framesOf(topo, walks, null)) acc.frame(f);
     const view = new StoreView(acc.partial());

@@ -16,7 +16,8 @@ import type { AnyAnalysis } from '../src/engine/analysis.js';
 import { readOptionValues } from '../src/engine/options.js';
 import { Random } from '../src/random.js';
 import { orthorhombicCell } from '../src/cell.js';
-import { storePass, type StorePartial } from '../analyses/msd.js';
+import { storePass, type StorePartial } from '../src/store/store.js';
+import { resolveLayout } from '../src/store/layout.js';
 import { groupSitesInBatch } from '../src/engine/batches.js';
 
 const ATOMS = 24;
@@ -146,10 +147,10 @@ describe('every registered analysis merges like one run', () => {
         fc.property(fc.integer({ min: 1, max: 1e6 }), fc.integer({ min: 2, max: 5 }), (seed, count) => {
           const frames = makeFrames(seed);
           const ctx = contextFor(frames);
-          const layout = axis.layout(o, frames[0]!.topology);
+          const layout = resolveLayout(axis.layout(o), frames[0]!.topology);
           const all = Int32Array.from({ length: layout.map.count }, (_, i) => i);
           const storeOf = (sites: Int32Array) => {
-            const p = storePass({ ...axis.store(o), sites });
+            const p = storePass({ ...axis.store(o, true), sites: Array.from(sites) });
             return p.finish(partialOf(p, frames, 0, FRAMES), ctx) as StorePartial;
           };
           const full = storeOf(all);

@@ -28,7 +28,7 @@ import {
 } from '../src/transport.js';
 import { MANIFEST, inspectReportTarget, stageDirectory, writeReportDirectory } from '../src/report/write.js';
 import { selectAtoms } from '../src/selection.js';
-import { speciesLayout } from '../analyses/msd.js';
+import { speciesLayout } from '../src/store/sites.js';
 import { crystalRadius } from '../src/radii.js';
 import { UsageError } from '../src/errors.js';
 import { quantity, type Topology } from '../src/types.js';

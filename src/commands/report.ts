@@ -24,7 +24,7 @@ import { Option, type Command } from 'commander';
 import { readTable, type TableData } from '../../readers/index.js';
 import { overviewPass, massDensity, type OverviewResult } from '../../analyses/overview.js';
 import { framewiseObservables, type FramewiseResult } from '../../analyses/framewise.js';
-import { chargesFor, reportRdfPass } from '../../analyses/rdf-auto.js';
+import { reportRdfPass } from '../../analyses/rdf-auto.js';
 import { makePass } from '../../analyses/index.js';
 import { shellPass, type ShellResult } from '../../analyses/shell.js';
 import {
@@ -34,17 +34,17 @@ import {
   msdPlan,
   msdSums,
   planeComponents,
-  speciesLayout,
-  storePass,
   yehHummerBoxLength,
   type GroupSums,
   type MsdOptions,
   type MsdPlan,
   type MsdResult,
   type ReadInfo,
-  type SiteLayout,
-  type StorePartial,
 } from '../../analyses/msd.js';
+import { chargesFor, parseChargeRules, type ChargeRule } from '../store/charges.js';
+import { resolveLayout, speciesSpec, type LayoutSpec, type SpeciesLayoutSpec } from '../store/layout.js';
+import type { SiteLayout } from '../store/sites.js';
+import { storePass, type StorePartial } from '../store/store.js';
 import {
   addVacfSums,
   analyseVacf,
@@ -57,7 +57,7 @@ import {
   type VacfPlan,
   type VacfResult,
 } from '../../analyses/vacf.js';
-import { analyseConductivity, atomCharges, parseChargeRules, type ChargeRule, type ConductivityResult } from '../../analyses/conductivity.js';
+import { analyseConductivity, type ConductivityResult } from '../../analyses/conductivity.js';
 import { analyseViscosity, shearComponents, type StressColumns } from '../../analyses/viscosity.js';
 import { analyseSeries } from '../../analyses/converge.js';
 import { addTrajectoryOptions, parsePositiveTime, printWarnings, readSpecOf, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
@@ -71,7 +71,7 @@ import { parseQuantity, UNIT_FACTORS } from '../units.js';
 import { AnalysisError, UsageError } from '../errors.js';
 import { refuseOverwritingInputs, toJson, type InputRecord } from '../output.js';
 import { VERSION } from '../version.js';
-import type { Pass, PassContext, Topology } from '../types.js';
+import type { Pass, PassContext } from '../types.js';
 import type { Boundary } from '../transport.js';
 import { chargeLayoutOnStore } from '../report/choose.js';
 // The report writers (plots, HTML) are loaded only when a report is written, not in workers.
@@ -200,7 +200,7 @@ async function batchedReport(
   opts: ReportCliOptions,
   cc: CommandContext,
   plan: SiteBatchPlan,
-  layoutSpec: (t: Topology) => SiteLayout,
+  layoutSpec: SpeciesLayoutSpec,
   rules: ChargeRule[] | null,
   streaming: Pass[],
   warnings: string[],
@@ -214,15 +214,13 @@ async function batchedReport(
   let vsums: VacfGroupSums[] | null = null;
   let clSums: GroupSums[] | null = null;
   let cl: ReturnType<typeof chargeLayoutOnStore> | null = null;
-  const chargedLayout = (t: Topology) => {
-    const l = layoutSpec(t);
-    return { ...l, siteCharges: chargesFor(t, rules) ?? new Float64Array(l.map.count) };
-  };
+  // The store's sites carry the charges of `chargesFor` (0 without any), for Σq r and Σq v.
+  const chargedLayout: LayoutSpec = { ...layoutSpec, charges: { rules } };
   const storeOptions = (_: Int32Array, i: number) => ({
     layout: chargedLayout,
     removeDrift: true,
     keepVelocities: true,
-    ...(i === 0 ? { collectiveCharges: (l: SiteLayout) => (l as ReturnType<typeof chargedLayout>).siteCharges } : {}),
+    ...(i === 0 ? { collectiveCharges: true } : {}),
   });
   const b = await readStoreInBatches(
     batchRequest(file, opts, cc),
@@ -233,7 +231,7 @@ async function batchedReport(
       const dt = run.ctx.frameInterval;
       if (dt === null) return false;
       const topology = run.ctx.topology;
-      const layout = layoutSpec(topology);
+      const layout = resolveLayout(layoutSpec, topology);
       if (i === 0) {
         // An AnalysisError here (too few frames) is reported when the analysis finishes.
         try {
@@ -275,7 +273,7 @@ async function batchedReport(
     streaming,
   );
   const { ctx, info } = b;
-  const layout = layoutSpec(ctx.topology);
+  const layout = resolveLayout(layoutSpec, ctx.topology);
   const read: ReadInfo = { reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
   const need = <T>(x: T | null, error: unknown): T => {
     if (error) throw error;
@@ -334,7 +332,7 @@ export function register(program: Command, cc: CommandContext): void {
     refuseInputsInside(opts.out, inputPaths);
     // The store holds every atom: positions, and velocities when the file has them; per frame the
     // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
-    const layoutSpec = (t: Topology) => speciesLayout(t, {});
+    const layoutSpec = speciesSpec({});
     const plan = await planSiteBatches(batchRequest(file, opts, cc), layoutSpec, vacfStoreBytes, vacfStoreBytes, 96);
 
     const staged: StagedDirectory | null = await (await import('../report/write.js')).stageDirectory(opts.out);
@@ -361,13 +359,13 @@ export function register(program: Command, cc: CommandContext): void {
         finishers = b.finishers;
         memoryNote = b.note;
       } else {
-        const store = makePass('species-store', { layout: {}, removeDrift: true, keepVelocities: true });
+        const store = makePass('store', { layout: layoutSpec, removeDrift: true, keepVelocities: true });
         const passes: RecipePass[] = [overviewP, framewiseP, store, rdf, ...shellPasses] as RecipePass[];
         run = await runOnTrajectory(file, opts, passes, warnings, cc);
         ctx = run.ctx;
         storeP = run.partials[2] as StorePartial;
         streamed = [run.partials[0], run.partials[1], ...run.partials.slice(3)];
-        finishers = storeFinishers(storeP, layoutSpec(ctx.topology), ctx);
+        finishers = storeFinishers(storeP, resolveLayout(layoutSpec, ctx.topology), ctx);
       }
       const topology = ctx.topology;
       const skipped: Record<string, string> = {};
@@ -396,7 +394,7 @@ export function register(program: Command, cc: CommandContext): void {
         });
         for (const [l, set] of byLabel) if (set.size === 1) labelCharges.set(l, [...set][0]);
       }
-      const layout = layoutSpec(topology);
+      const layout = resolveLayout(layoutSpec, topology);
       let msd: MsdResult | null = null;
       let vacf: VacfResult | null = null;
       let conductivity: ConductivityResult | null = null;

@@ -15,7 +15,9 @@
  */
 import type { Pass, PassContext, Topology } from '../types.js';
 import type { OptionSpec, OptionValues } from './options.js';
-import type { StoreOptions, StorePartial, SiteLayout } from '../../analyses/msd.js';
+import type { StoreOptions, StorePartial } from '../store/store.js';
+import type { SiteLayout } from '../store/sites.js';
+import type { LayoutSpec } from '../store/layout.js';
 import type { FirstFrameInfo } from './batches.js';
 
 /** A file an analysis writes from its result: the option naming it and the text(s). */
@@ -41,8 +43,8 @@ export interface BatchRecord {
  * commutative over disjoint batches).
  */
 export interface SiteAxis<O, S, R> {
-  /** The site layout of these options on a topology (deterministic). */
-  layout(options: O, topology: Topology): SiteLayout;
+  /** The site layout of these options, as data (resolved per topology by `resolveLayout`). */
+  layout(options: O): LayoutSpec;
   /** Bytes per stored site and frame: for one read of all sites, and for a batch read. */
   bytesPerSiteFrame(options: O, first: FirstFrameInfo): { all: number; batch: number };
   /** Bytes per frame besides the sites (centre of mass, collective sums); default 48. */

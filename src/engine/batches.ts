@@ -19,13 +19,9 @@ import { UsageError } from '../errors.js';
 import { execute, type RunSource } from './execute.js';
 import type { ReadSpec, TrajectoryRun } from './read.js';
 import type { Pass, PassContext, Topology, Warnings } from '../types.js';
-import {
-  storeBytes,
-  storePass,
-  type SiteLayout,
-  type StoreOptions,
-  type StorePartial,
-} from '../../analyses/msd.js';
+import { resolveLayout, type LayoutSpec } from '../store/layout.js';
+import type { SiteLayout } from '../store/sites.js';
+import { storeBytes, storePass, type StoreOptions, type StorePartial } from '../store/store.js';
 
 const UNITS: Record<string, number> = {
   b: 1,
@@ -103,7 +99,7 @@ async function firstFrame(spec: ReadSpec): Promise<FirstFrameInfo> {
  */
 export async function planSiteBatches(
   req: BatchRequest,
-  layout: (t: Topology) => SiteLayout,
+  layout: LayoutSpec,
   bytesPerSiteFrame: BytesPerSiteFrame,
   batchBytesPerSiteFrame: BytesPerSiteFrame = bytesPerSiteFrame,
   bytesPerFrame = 48,
@@ -120,7 +116,7 @@ export async function planSiteBatches(
     frames = Math.max(0, Math.ceil((Math.min(total, r.to) - r.from) / r.stride));
   }
   const first = await firstFrame(spec);
-  const sites = layout(first.topology).map.count;
+  const sites = resolveLayout(layout, first.topology).map.count;
   const rule = (b: BytesPerSiteFrame) => (typeof b === 'number' ? b : b(first));
   bytesPerSiteFrame = rule(bytesPerSiteFrame);
   batchBytesPerSiteFrame = rule(batchBytesPerSiteFrame);
@@ -219,7 +215,7 @@ export async function readStoreInBatches(
   let firstUnwrapped: Set<number> | null = null;
   let held = 0;
   let reads = 0;
-  const passesFor = (sites: Int32Array, i: number): Pass[] => [storePass({ ...store(sites, i), sites }) as Pass, ...(i === 0 ? firstPasses : [])];
+  const passesFor = (sites: Int32Array, i: number): Pass[] => [storePass({ ...store(sites, i), sites: Array.from(sites) }) as Pass, ...(i === 0 ? firstPasses : [])];
   await readInBatches(req, plan, passesFor, warnings, (run, batch, i) => {
     const s = run.partials[0] as StorePartial;
     reads++;

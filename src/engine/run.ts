@@ -7,6 +7,7 @@ import type { TrajectoryAnalysis } from './analysis.js';
 import { execute, type ExecutePlan } from './execute.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches } from './batches.js';
 import { withRecipe } from './recipes.js';
+import { resolveLayout } from '../store/layout.js';
 import type { ReadSpec, TrajectoryRun } from './read.js';
 import type { Warnings } from '../types.js';
 
@@ -29,7 +30,7 @@ export async function runAnalysis<O, P, R>(
     const req = { spec, maxMemory: plan.maxMemory, source: plan.source, partialOut: plan.partialOut !== undefined };
     const batches = await planSiteBatches(
       req,
-      (t) => axis.layout(o, t),
+      axis.layout(o),
       (first) => axis.bytesPerSiteFrame(o, first).all,
       (first) => axis.bytesPerSiteFrame(o, first).batch,
       axis.bytesPerFrame,
@@ -37,12 +38,12 @@ export async function runAnalysis<O, P, R>(
     if (batches) {
       let sums: unknown = null;
       const b = await readStoreInBatches(req, batches, (_batch, i) => axis.store(o, i === 0), warnings, (store, batch, run) => {
-        const layout = axis.layout(o, run.ctx.topology);
+        const layout = resolveLayout(axis.layout(o), run.ctx.topology);
         const part = axis.sums(store, layout, groupSitesInBatch(layout, batch), run.ctx, o);
         sums = sums === null ? part : axis.add(sums, part);
       });
       const record = { info: b.info, reads: b.reads, bytesHeld: b.bytesHeld, note: b.note };
-      return { result: axis.finish(sums, record, axis.layout(o, b.ctx.topology), b.ctx, o), run: b.first };
+      return { result: axis.finish(sums, record, resolveLayout(axis.layout(o), b.ctx.topology), b.ctx, o), run: b.first };
     }
   }
   const pass = withRecipe(d.pass(o), { kind: d.name, options: o });

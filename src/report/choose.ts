@@ -4,7 +4,7 @@
  * shared coordinate store.
  */
 import type { Topology } from '../types.js';
-import type { SiteLayout } from '../../analyses/msd.js';
+import type { SiteLayout } from '../store/sites.js';
 
 // ---------------------------------------------------------------------------------------------
 // Which g(r) pairs
