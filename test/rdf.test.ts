@@ -6,7 +6,9 @@ import {
   rdfPass, mergeRdfPartials, shellVolumes, binCentres, normaliseCounts, runningCoordination, savitzkyGolay7,
   findFirstShell, automaticBlockCount, groupContiguous, resolveBins, type RdfSpec, type RdfPartial, type RdfResult,
 } from '../analyses/rdf.js';
-import { PairHistogram, cellGrid, planSearch, forEachPairWithin, RND, lowerTriangular } from '../src/neighbors.js';
+import { PairHistogram, forEachPairWithin } from '../src/neighbors.js';
+import { cellGrid, planSearch } from '../src/cell-search.js';
+import { RND, lowerTriangular } from '../src/pair-kernels.js';
 import { parsePairOption, parseWavenumber, safeName } from '../analyses/rdf-analysis.js';
 import { CellGeometry, orthorhombicCell, cellFromParameters } from '../src/cell.js';
 import { Random } from '../src/random.js';
