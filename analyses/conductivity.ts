@@ -57,7 +57,8 @@ import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { msdSumFft } from '../src/numerics/mean-squared-displacement.js';
 import { chargeText, ionSites, type ChargeRule } from '../src/store/charges.js';
 import { resolveLayout, type ChargedLayout, type IonLayoutSpec } from '../src/store/layout.js';
-import { driftDescription, storeBytes, storePass, StoreView, type StorePartial } from '../src/store/store.js';
+import { driftDescription, storeBytes, storePass, type StorePartial } from '../src/store/store.js';
+import { StoreView } from '../src/store/view.js';
 import { analyseMsd, requireFrameInterval, type MsdResult, type ReadInfo } from './msd.js';
 import { plateauWithSegments, velocitySourceOf } from './vacf.js';
 

@@ -42,7 +42,8 @@ import { msdSumFft } from '../src/numerics/mean-squared-displacement.js';
 import { addNonGaussianSums, logSpacedLags, nonGaussianFromMoments, NON_GAUSSIAN_LAGS_PER_DECADE } from '../src/numerics/non-gaussian.js';
 import { resolveLayout, speciesSpec } from '../src/store/layout.js';
 import type { SiteLayout, SpeciesLayoutOptions } from '../src/store/sites.js';
-import { driftDescription, gatherSeries, storeBytes, storePass, StoreView, unwrapWarning, type StorePartial } from '../src/store/store.js';
+import { driftDescription, storeBytes, storePass, unwrapWarning, type StorePartial } from '../src/store/store.js';
+import { gatherSeries, StoreView } from '../src/store/view.js';
 
 // ---------------------------------------------------------------------------------------------
 // MSD of the sites of a store

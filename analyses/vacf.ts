@@ -65,7 +65,8 @@ import { blockStatistics } from '../src/numerics/block-statistics.js';
 import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { resolveLayout, speciesSpec } from '../src/store/layout.js';
 import type { SiteLayout, SpeciesLayoutOptions } from '../src/store/sites.js';
-import { driftDescription, gatherSeries, storeBytes, storePass, StoreView, type StorePartial } from '../src/store/store.js';
+import { driftDescription, storeBytes, storePass, type StorePartial } from '../src/store/store.js';
+import { gatherSeries, StoreView } from '../src/store/view.js';
 import { planeComponents, requireFrameInterval, type ReadInfo } from './msd.js';
 
 /** cm⁻¹ per THz: 1e12 Hz / (c · 100 cm/m) = 33.35641 (c exact, SI). */

@@ -22,7 +22,9 @@ import {
 import { directMsdOfSeries } from '../src/numerics/mean-squared-displacement.js';
 import { nonGaussianFromMoments } from '../src/numerics/non-gaussian.js';
 import { speciesSpec } from '../src/store/layout.js';
-import { mergeStores, StoreView, storePass, type StorePartial } from '../src/store/store.js';
+import { storePass, type StorePartial } from '../src/store/store.js';
+import { mergeStores } from '../src/store/merge.js';
+import { StoreView } from '../src/store/view.js';
 
 /** Topology with given labels and masses (elements = labels). */
 function topology(labels: string[], masses?: number[], residues: Residues | null = null): Topology {

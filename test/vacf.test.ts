@@ -9,7 +9,8 @@ import { ornsteinUhlenbeck } from '../src/random.js';
 import { plateauWindow, windowMean } from '../src/fit.js';
 import { convergenceNote } from '../src/estimate.js';
 import { cosineSpectrum, plateauWithSegments, vacfPass, WAVENUMBER_PER_THZ, type VacfPassOptions, type VacfResult } from '../analyses/vacf.js';
-import { mergeStores, type StorePartial } from '../src/store/store.js';
+import type { StorePartial } from '../src/store/store.js';
+import { mergeStores } from '../src/store/merge.js';
 
 const relDiff = (a: number, b: number) => Math.abs(a - b) / Math.abs(b);
 
