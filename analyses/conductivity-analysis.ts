@@ -23,7 +23,7 @@ import { parseSelection } from '../src/selection.js';
 import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js';
 import type { Quantity } from '../src/types.js';
 import { CAUTION } from '../src/caution.js';
-import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE } from '../src/fit.js';
+import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE } from '../src/plateau.js';
 
 /** σ in the table unit mS/cm (1 S/m = 10 mS/cm). */
 const mScm = (q: Quantity | null) => formatQuantity(q, 10, 'mS/cm');

@@ -46,13 +46,13 @@ import { nernstEinsteinConductivity, nernstEinsteinUncertainty } from '../src/tr
 import { ratioWithUncertainty } from '../src/numerics/propagation.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
 import {
-  correlationSamplingProblem,
   fitSlopeWithSegments,
   maxLagIndex,
   uncertaintyRuleText,
   windowRuleText,
   DEFAULT_MAX_FRACTION,
 } from '../src/fit.js';
+import { correlationSamplingProblem } from '../src/plateau.js';
 import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { msdSumFft } from '../src/numerics/mean-squared-displacement.js';
 import { chargeText, ionSites, type ChargeRule } from '../src/store/charges.js';

@@ -28,7 +28,7 @@ import { PLANE_OPTION, SITE_OPTIONS, plateauOptions, plateauValues, siteValues }
 import { formatSig, formatTable } from '../src/output.js';
 import { quantity, type Pass, type Quantity } from '../src/types.js';
 import { CAUTION } from '../src/caution.js';
-import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE } from '../src/fit.js';
+import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE } from '../src/plateau.js';
 import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../src/numerics/compare.js';
 
 /** Options of the diffusion analysis: the sites, the MSD window and the VACF plateau. */

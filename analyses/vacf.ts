@@ -43,24 +43,26 @@ import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js'
 import { CAUTION } from '../src/caution.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
 import {
-  correlationSamplingProblem,
   maxLagIndex,
-  plateauDriftCheck,
-  plateauWindow,
   segmentFactorNote,
   segmentUncertaintyFactor,
   uncertaintyRuleText,
-  windowMean,
-  DRIFT_CHECK_FACTOR,
   DEFAULT_MAX_FRACTION,
-  DEFAULT_PLATEAU_SPAN,
-  DEFAULT_PLATEAU_TOLERANCE,
   DEFAULT_SEGMENTS,
-  MIN_PLATEAU_POINTS,
   MIN_SEGMENTS,
   type LagWindow,
-  type PlateauDrift,
 } from '../src/fit.js';
+import {
+  correlationSamplingProblem,
+  plateauDriftCheck,
+  plateauWindow,
+  windowMean,
+  DRIFT_CHECK_FACTOR,
+  DEFAULT_PLATEAU_SPAN,
+  DEFAULT_PLATEAU_TOLERANCE,
+  MIN_PLATEAU_POINTS,
+  type PlateauDrift,
+} from '../src/plateau.js';
 import { blockStatistics } from '../src/numerics/block-statistics.js';
 import { cumulativeTrapezoid } from '../src/numerics/trapezoid.js';
 import { resolveLayout, speciesSpec } from '../src/store/layout.js';

@@ -55,7 +55,7 @@
  * time in ps, viscosity in Pa s.
  */
 import { autocorrelation, nextPowerOfTwo } from '../src/correlate.js';
-import { correlationSamplingProblem } from '../src/fit.js';
+import { correlationSamplingProblem } from '../src/plateau.js';
 import { blockStatistics } from '../src/numerics/block-statistics.js';
 import {
   doubleExponential,

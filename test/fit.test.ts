@@ -5,15 +5,14 @@
  */
 import { describe, expect, it } from 'vitest';
 import {
-  correlationSamplingProblem,
   diffusiveWindow,
   maxLagIndex,
   planSegments,
-  plateauDriftCheck,
   segmentedDiffusiveWindow,
   segmentUncertaintyFactor,
   windowFromTimes,
 } from '../src/fit.js';
+import { correlationSamplingProblem, plateauDriftCheck } from '../src/plateau.js';
 import { ONE_SIGMA_LEVEL } from '../src/numerics/student-t.js';
 import { UsageError } from '../src/errors.js';
 import { readOptionValue, readOptionValues, SHARED, windowValues } from '../src/engine/options.js';

@@ -6,7 +6,7 @@
 import { describe, expect, it } from 'vitest';
 import type { Frame, PassContext, Topology } from '../src/types.js';
 import { ornsteinUhlenbeck } from '../src/random.js';
-import { plateauWindow, windowMean } from '../src/fit.js';
+import { plateauWindow, windowMean } from '../src/plateau.js';
 import { convergenceNote } from '../src/estimate.js';
 import { cosineSpectrum, plateauWithSegments, vacfPass, WAVENUMBER_PER_THZ, type VacfPassOptions, type VacfResult } from '../analyses/vacf.js';
 import type { StorePartial } from '../src/store/store.js';

@@ -5,7 +5,7 @@
  */
 import { formatSig, formatValue } from '../../output.js';
 import { hasReason, isOk } from '../../estimate.js';
-import { CORRELATION_SAMPLING_RATIO } from '../../fit.js';
+import { CORRELATION_SAMPLING_RATIO } from '../../plateau.js';
 import { trapezoidExponentialBias } from '../../numerics/trapezoid.js';
 import { stokesFactor, PROPAGATION_RULE, YEH_HUMMER_XI } from '../../transport.js';
 import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../../numerics/compare.js';
