@@ -3,9 +3,12 @@ import { mkdtempSync, writeFileSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import {
-  rdfPass, mergeRdfPartials, shellVolumes, binCentres, normaliseCounts, runningCoordination, savitzkyGolay7,
-  findFirstShell, automaticBlockCount, groupContiguous, resolveBins, type RdfSpec, type RdfPartial, type RdfResult,
+  rdfPass, mergeRdfPartials, resolveBins, type RdfSpec, type RdfPartial, type RdfResult,
 } from '../analyses/rdf.js';
+import {
+  shellVolumes, binCentres, normaliseCounts, runningCoordination, savitzkyGolay7, findFirstShell, automaticBlockCount,
+  groupContiguous,
+} from '../analyses/rdf-curves.js';
 import { PairHistogram, forEachPairWithin } from '../src/neighbors.js';
 import { cellGrid, planSearch } from '../src/cell-search.js';
 import { RND, lowerTriangular } from '../src/pair-kernels.js';

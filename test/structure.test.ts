@@ -4,7 +4,8 @@ import {
   lennardJonesEnergy, lennardJonesPressure, ljEnergyTail, ljPressureTail, kirkwoodBuffRunning,
   kirkwoodBuffFiniteVolume, kirkwoodBuffExtrapolation, sphereOverlapWeight, structureFactorGrid, KJ_PER_MOL_A3_TO_PA,
 } from '../analyses/structure.js';
-import { rdfPass, shellVolumes } from '../analyses/rdf.js';
+import { rdfPass } from '../analyses/rdf.js';
+import { shellVolumes } from '../analyses/rdf-curves.js';
 import { orthorhombicCell } from '../src/cell.js';
 import { Random } from '../src/random.js';
 import { BOLTZMANN } from '../src/units.js';
