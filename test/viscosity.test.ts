@@ -6,15 +6,13 @@
 import { describe, it, expect } from 'vitest';
 import {
   analyseViscosity,
-  cutoffIndex,
   defaultSegmentCount,
-  doubleExponentialProblem,
   greenKuboPrefactor,
   maxLagFor,
-  plateauRise,
   shearComponents,
   type StressColumns,
 } from '../analyses/viscosity.js';
+import { cutoffIndex, doubleExponentialProblem, plateauRise } from '../analyses/viscosity-fit.js';
 import { doubleExponential, fitDoubleExponential } from '../src/numerics/exponential-fits.js';
 import { pickStressColumns, tensorKeyOf } from '../src/commands/viscosity.js';
 import { ornsteinUhlenbeck, Random } from '../src/random.js';
