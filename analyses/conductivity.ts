@@ -13,7 +13,7 @@
  *   (Helfand, Phys. Rev. 119, 1 (1960); e.g. Hansen & McDonald, Theory of Simple Liquids).
  * - Green–Kubo, when the file carries velocities:
  *     σ = 1/(3 V k_B T) ∫₀^∞ ⟨J(0)·J(t)⟩ dt,  J = Σ_i q_i v_i,
- *   value on the running integral's plateau (src/fit.ts), uncertainty over segments (Green,
+ *   value on the running integral's plateau (src/plateau.ts), uncertainty over segments (Green,
  *   J. Chem. Phys. 22, 398 (1954); Kubo, J. Phys. Soc. Jpn. 12, 570 (1957)).
  *
  * Ionicity σ/σ_NE (Einstein–Helfand over Nernst–Einstein) and the Haven ratio H = σ_NE/σ, both
@@ -32,7 +32,7 @@
  * molecules (water O −0.8476, H +0.4238) are not ions: their motion is part of the collective
  * current, but they carry no net charge and do not conduct independently.
  *
- * Green–Kubo is guarded as the VACF is (src/fit.ts): the charge-current autocorrelation must keep
+ * Green–Kubo is guarded as the VACF is (src/plateau.ts): the charge-current autocorrelation must keep
  * at least half of its zero-lag value after one frame interval (`correlationSamplingProblem`),
  * and the running integral must stay on its plateau (`plateauDriftCheck`).
  */
@@ -198,7 +198,7 @@ export interface ConductivityResult {
   greenKuboPlateau: { from: number; to: number; found: boolean } | null;
   /** Whether the Green–Kubo value passed its checks (plateau, drift, sampling); null without it. */
   greenKuboConverged: boolean | null;
-  /** The drift check of the Green–Kubo plateau (src/fit.ts plateauDriftCheck): later lags in ps, change and its threshold in S/m. */
+  /** The drift check of the Green–Kubo plateau (src/plateau.ts plateauDriftCheck): later lags in ps, change and its threshold in S/m. */
   greenKuboDrift: { from: number; to: number; change: number; error: number | null; threshold: number; drifting: boolean } | null;
   /** The ions: the species of the Nernst–Einstein sum and the concentration. */
   species: ConductivitySpecies[];
@@ -329,7 +329,7 @@ interface GreenKuboConductivity {
  * Green–Kubo conductivity from the charge-current autocorrelation when the store has velocities
  * (or kept Σ q v): running integral by the trapezoid rule, value on its plateau with the segment
  * uncertainty and drift check (analyses/vacf.ts `plateauWithSegments`), and the sampling check
- * (src/fit.ts). Its reasons go to the sink after "Green–Kubo: ".
+ * (src/plateau.ts). Its reasons go to the sink after "Green–Kubo: ".
  */
 function greenKuboOf(
   store: StorePartial,

@@ -21,7 +21,8 @@ import {
 import { storePass, type StorePartial } from '../src/store/store.js';
 import { resolveLayout, speciesSpec } from '../src/store/layout.js';
 import type { SpeciesLayoutOptions } from '../src/store/sites.js';
-import { addVacfSums, analyseVacf, finishVacf, vacfPlan, vacfStoreBytes, vacfSums, velocityFrames, type VacfGroupSums, type VacfOptions, type VacfPlan, type VacfResult } from './vacf.js';
+import { addVacfSums, analyseVacf, finishVacf, vacfPlan, vacfSums, velocityFrames, type VacfGroupSums, type VacfOptions, type VacfPlan, type VacfResult } from './vacf.js';
+import { vacfStoreBytes } from './vacf-analysis.js';
 import { dTable, MSD_WINDOW_OPTIONS, msdOptionsFrom, yehHummerOptionSpecs } from './msd-analysis.js';
 import { defineAnalysis } from '../src/engine/analysis.js';
 import { PLANE_OPTION, SITE_OPTIONS, plateauOptions, plateauValues, siteValues } from '../src/engine/options.js';

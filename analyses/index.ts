@@ -11,7 +11,7 @@ import { rdfPass } from './rdf.js';
 import { rdfAnalysis } from './rdf-analysis.js';
 import { reportRdfPass } from './rdf-auto.js';
 import { shellAnalysis } from './shell.js';
-import { vacfAnalysis } from './vacf.js';
+import { vacfAnalysis } from './vacf-analysis.js';
 import { msdAnalysis } from './msd-analysis.js';
 import { diffusionAnalysis } from './diffusion-analysis.js';
 import { conductivityAnalysis } from './conductivity-analysis.js';

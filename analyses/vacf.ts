@@ -6,9 +6,9 @@
  * src/correlate.ts), in Å²/ps², summed over the analysed components (3, or 2 with a plane).
  * D(t) = (1/d) ∫₀ᵗ C(t') dt' by the trapezoid rule (Green, J. Chem. Phys. 22, 398 (1954); Kubo,
  * J. Phys. Soc. Jpn. 12, 570 (1957)); D is the mean of D(t) over the plateau window of
- * src/fit.ts (`plateauWindow`), and its uncertainty the standard error over independent segments.
+ * src/plateau.ts (`plateauWindow`), and its uncertainty the standard error over independent segments.
  * Lags are analysed up to half the run (the same f_max rule as the MSD). Two checks guard the
- * value (src/fit.ts): the VACF must keep at least half of C(0) after one frame interval, or the
+ * value (src/plateau.ts): the VACF must keep at least half of C(0) after one frame interval, or the
  * trapezoid rule misjudges the first interval, which segments cannot see
  * (`correlationSamplingProblem`); and the running integral must stay on its plateau over the
  * later lags (`plateauDriftCheck`). Either failing makes the value not converged.
@@ -31,16 +31,14 @@
  * src/engine/batches.ts) add up (`addVacfSums`) to those of one read; the normalisation,
  * running integral, plateau and spectrum follow the addition, so the result equals one read's to
  * round-off.
+ *
+ * The command (options, text, CSV files, site axis) is declared in analyses/vacf-analysis.ts.
  */
 import FFT from 'fft.js';
 import type { Pass, PassContext } from '../src/types.js';
 import { estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { sumOfAutocorrelations, nextPowerOfTwo } from '../src/correlate.js';
 import { AnalysisError } from '../src/errors.js';
-import { defineAnalysis } from '../src/engine/analysis.js';
-import { PLANE_OPTION, SHARED, SITE_OPTIONS, plateauOptions, siteValues, type OptionValues } from '../src/engine/options.js';
-import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js';
-import { CAUTION } from '../src/caution.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
 import {
   maxLagIndex,
@@ -242,7 +240,7 @@ export function cosineSpectrum(c: ArrayLike<number>, dt: number): { frequencyTHz
 export interface VacfOptions {
   plane?: string;
   segments?: number;
-  /** Plateau rule (src/fit.ts). */
+  /** Plateau rule (src/plateau.ts). */
   plateauTolerance?: number;
   plateauSpan?: number;
   maxFraction?: number;
@@ -267,9 +265,9 @@ export interface VacfGroupResult {
   /** Segments the uncertainty rests on (0: none), and the factor applied to their standard error. */
   segments: number;
   uncertaintyFactor: number;
-  /** False when the VACF falls below half of C(0) within one frame interval (src/fit.ts). */
+  /** False when the VACF falls below half of C(0) within one frame interval (src/plateau.ts). */
   samplingOk: boolean;
-  /** The drift check after the plateau (src/fit.ts plateauDriftCheck): later lags in ps, change and threshold in m²/s. */
+  /** The drift check after the plateau (src/plateau.ts plateauDriftCheck): later lags in ps, change and threshold in m²/s. */
   plateauDrift: { from: number; to: number; change: number; error: number | null; threshold: number; drifting: boolean } | null;
   converged: boolean;
   notes: string[];
@@ -304,7 +302,7 @@ export interface SegmentedPlateau {
   error: number | null;
   segments: number;
   uncertaintyFactor: number;
-  /** The check that the integral stays on the plateau over later lags (src/fit.ts). */
+  /** The check that the integral stays on the plateau over later lags (src/plateau.ts). */
   drift: PlateauDrift;
   converged: boolean;
   notes: string[];
@@ -344,7 +342,7 @@ export function plateauSegments(
 /**
  * Plateau and segment uncertainty of a running integral. The run of `samples` samples is cut
  * into M segments (default 5, reduced to no fewer than MIN_SEGMENTS when a segment would be too
- * short); the plateau is searched (src/fit.ts `plateauWindow`) among the lags a segment can hold
+ * short); the plateau is searched (src/plateau.ts `plateauWindow`) among the lags a segment can hold
  * under the f_max rule, so that every segment can be evaluated over the same window. The value is
  * the mean of the full-run integral over the window, its uncertainty the standard error of the
  * segment means (Frenkel & Smit, 2nd ed., §4.4.1), times t_{0.8413, M−1} when M < 5
@@ -591,130 +589,3 @@ export function vacfPass(opts: VacfPassOptions = {}): Pass<StorePartial, VacfRes
     finish: (p, ctx) => analyseVacf(p, resolveLayout(layout, ctx.topology), ctx, opts),
   };
 }
-
-/**
- * Bytes a store for the VACF holds per site and frame: unwrapped positions (3 × 8 B, always
- * kept; central differences need them) plus the site velocities (3 × 8 B) when the file carries
- * them (judged on its first frame).
- */
-export function vacfStoreBytes(first: { velocities: boolean }): number {
-  return first.velocities ? 48 : 24;
-}
-
-/** Human-readable report of a VACF result. */
-export function renderVacf(file: string, r: VacfResult): string {
-  const out: string[] = [];
-  out.push(`${file}: velocity autocorrelation, ${r.frames} frames every ${formatSig(r.frameInterval, 6)} ps, d = ${r.dimensions}, velocities from ${r.velocitySource}`);
-  out.push(
-    formatTable(
-      ['group', 'sites', 'D (10⁻⁹ m²/s)', 'plateau (ps)', 'C(0) (Å²/ps²)', 'status'],
-      r.groups.map((g) => [
-        g.label,
-        String(g.count),
-        formatQuantity(g.diffusion, 1e9, ''),
-        `${formatSig(g.plateau.from, 4)}–${formatSig(g.plateau.to, 4)}${g.plateau.found ? '' : ' (no plateau)'}`,
-        formatSig(g.vacf[0], 5),
-        g.converged ? 'ok' : 'NOT CONVERGED',
-      ]),
-    ),
-  );
-  out.push('');
-  out.push(`plateau: ${r.rules.plateau}`);
-  out.push(`uncertainty: ${r.rules.uncertainty}`);
-  out.push(`spectrum: ${r.rules.spectrum}`);
-  out.push(`drift: ${r.driftNote}`);
-  out.push(
-    r.memoryNote
-      ? `memory: ${r.memoryNote}`
-      : `memory: ${formatSig(r.bytesHeld / 2 ** 20, 4)} MiB held (stored positions${r.velocitySource === 'file' ? ' and velocities' : ''})`,
-  );
-  for (const g of r.groups) {
-    const s = g.spectrum;
-    let k = 1;
-    for (let i = 1; i < s.intensity.length; i++) if (s.intensity[i] > s.intensity[k]) k = i;
-    if (s.intensity.length > 1) {
-      out.push(`${g.label}: strongest non-zero spectral peak at ${formatSig(s.frequencyTHz[k], 4)} THz (${formatSig(s.wavenumber[k], 4)} cm⁻¹)`);
-    }
-    for (const n of g.notes) out.push(`${g.label}: ${n}`);
-  }
-  out.push('');
-  out.push(CAUTION);
-  return out.join('\n');
-}
-
-/** CSV of the VACF curves: time and, per group, C(t) (Å²/ps²), C/C(0) and D(t) (m²/s). */
-export function vacfCsv(r: VacfResult): string {
-  const names = ['time_ps'];
-  const cols: ArrayLike<number>[] = [r.groups[0]?.time ?? []];
-  for (const g of r.groups) {
-    names.push(`${g.label}_vacf_A2_per_ps2`, `${g.label}_normalized`, `${g.label}_D_m2_per_s`);
-    cols.push(g.vacf, g.normalized, g.runningIntegral);
-  }
-  return toCsv(names.map((n) => n.replace(/[,\s]+/g, '_')), cols);
-}
-
-/** CSV of the spectra: frequency (THz), wavenumber (cm⁻¹) and, per group, intensity (Å²/ps). */
-export function spectrumCsv(r: VacfResult): string {
-  const first = r.groups[0]?.spectrum;
-  const names = ['frequency_THz', 'wavenumber_per_cm'];
-  const cols: ArrayLike<number>[] = [first?.frequencyTHz ?? [], first?.wavenumber ?? []];
-  for (const g of r.groups) {
-    names.push(`${g.label}_intensity_A2_per_ps`);
-    cols.push(g.spectrum.intensity);
-  }
-  return toCsv(names.map((n) => n.replace(/[,\s]+/g, '_')), cols);
-}
-
-/** The VACF pass options from the parsed command options. */
-function configureVacf(v: OptionValues): VacfPassOptions {
-  const plateau: VacfOptions = {};
-  if (v.plateauTolerance !== undefined) plateau.plateauTolerance = v.plateauTolerance as number;
-  if (v.plateauSpan !== undefined) plateau.plateauSpan = v.plateauSpan as number;
-  if (v.segments !== undefined) plateau.segments = v.segments as number;
-  return { ...siteValues(v), ...plateau };
-}
-
-/** Site sums of the VACF over one batch of sites, with the lag plan they were made with. */
-interface VacfBatchSums {
-  plan: VacfPlan;
-  groups: VacfGroupSums[];
-}
-
-/**
- * `vacf`: velocity autocorrelation per species, the Green–Kubo self-diffusion coefficient on the
- * running integral's plateau with a segment uncertainty, and the vibrational spectrum
- * (Hann-tapered cosine transform) in THz and cm⁻¹. Its site sums add over batches of sites
- * (`--max-memory`): the groups' full-run and segment curves are divided by the number of sites
- * only in `finishVacf`.
- */
-export const vacfAnalysis = defineAnalysis<VacfPassOptions, StorePartial, VacfResult>({
-  name: 'vacf',
-  summary: 'velocity autocorrelation, Green–Kubo self-diffusion on its plateau, and the vibrational spectrum per species',
-  options: [
-    ...SITE_OPTIONS,
-    PLANE_OPTION,
-    ...plateauOptions({ tolerance: DEFAULT_PLATEAU_TOLERANCE, span: DEFAULT_PLATEAU_SPAN }),
-    SHARED.segments(undefined, DEFAULT_SEGMENTS),
-    SHARED.csvFile('write the VACF and running integral to this CSV file'),
-    SHARED.csvFile('write the spectra to this CSV file', 'spectrumCsv', '--spectrum-csv <file>'),
-  ],
-  configure: configureVacf,
-  pass: vacfPass,
-  render: (file, r) => renderVacf(file, r),
-  outputs: [
-    { option: 'csv', write: (r) => [['', vacfCsv(r)]] },
-    { option: 'spectrumCsv', write: (r) => [['', spectrumCsv(r)]] },
-  ],
-  sites: {
-    layout: (o) => speciesSpec(o),
-    bytesPerSiteFrame: (_o, first) => ({ all: vacfStoreBytes(first), batch: vacfStoreBytes(first) }),
-    store: (o) => ({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: true }),
-    sums(store, layout, groupSites, ctx, o): VacfBatchSums {
-      const plan = vacfPlan(velocityFrames(store), o);
-      return { plan, groups: vacfSums(store, layout, plan, planeComponents(o.plane), requireFrameInterval(ctx), groupSites) };
-    },
-    add: (a: VacfBatchSums, b: VacfBatchSums): VacfBatchSums => ({ plan: a.plan, groups: a.groups.map((s, i) => addVacfSums(s, b.groups[i]!)) }),
-    finish: (s: VacfBatchSums, record, layout, ctx, o) =>
-      finishVacf(s.groups, s.plan, record.info, layout, ctx, o, { reads: record.reads, bytesHeld: record.bytesHeld, note: record.note }),
-  },
-});

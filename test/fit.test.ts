@@ -1,6 +1,6 @@
 /**
- * Window, segment, plateau and sampling rules (src/fit.ts) and the window option parsing, against
- * hand computations and closed-form curves. The numerics they use are tested in
+ * Window, segment, plateau and sampling rules (src/fit.ts, src/plateau.ts) and the window option
+ * parsing, against hand computations and closed-form curves. The numerics they use are tested in
  * test/numerics-*.test.ts.
  */
 import { describe, expect, it } from 'vitest';

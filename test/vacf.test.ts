@@ -1,5 +1,5 @@
 /**
- * VACF analysis (analyses/vacf.ts) and the plateau/integration helpers of src/fit.ts against
+ * VACF analysis (analyses/vacf.ts) and the plateau/integration helpers of src/plateau.ts against
  * closed forms: the Ornstein–Uhlenbeck velocity autocorrelation, the Fourier transform of an
  * exponential (Lorentzian), exact integrals, and the speed of light.
  */

@@ -64,7 +64,7 @@ import { addTrajectoryOptions, parsePositiveTime, printWarnings, readSpecOf, run
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type BatchRequest, type SiteBatchPlan } from '../engine/batches.js';
 import { commanderOption } from './analysis.js';
 import { SHARED } from '../engine/options.js';
-import { vacfStoreBytes } from '../../analyses/vacf.js';
+import { vacfStoreBytes } from '../../analyses/vacf-analysis.js';
 import { uniformStep } from './converge.js';
 import { pickStressColumns } from './viscosity.js';
 import { parseQuantity, UNIT_FACTORS } from '../units.js';
