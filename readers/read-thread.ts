@@ -18,7 +18,8 @@ import { closeSync, openSync, readSync } from 'node:fs';
 import { createHash } from 'node:crypto';
 import { isMainThread, parentPort, workerData } from 'node:worker_threads';
 import { InputError } from '../src/errors.js';
-import { GunzipStream, type ReadThreadData, type ReadThreadMessage } from './bytes.js';
+import type { ReadThreadData, ReadThreadMessage } from './bytes.js';
+import { GunzipStream } from './gunzip.js';
 
 /** Read, hash, inflate and hand over, as described in the module comment. */
 export function runReadThread(d: ReadThreadData, post: (m: ReadThreadMessage, transfer?: ArrayBuffer[]) => void): void {
