@@ -14,6 +14,7 @@ import { vacfAnalysis } from './vacf.js';
 import { msdPass } from './msd.js';
 import { conductivityPass } from './conductivity.js';
 import { speciesStorePass } from './msd.js';
+import { checksPass } from '../src/checks.js';
 
 /** The analyses that are commands of their own (src/cli builds one command per entry). */
 export const ANALYSES: readonly AnyAnalysis[] = [shellAnalysis, vacfAnalysis];
@@ -28,6 +29,7 @@ export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
   msd: msdPass,
   conductivity: conductivityPass,
   'species-store': speciesStorePass,
+  checks: () => checksPass,
 };
 
 /** Build the pass `kind` with `options` (plain data), carrying its recipe for threads and merges. */

@@ -50,6 +50,8 @@ import { parseSelection, selectAtoms } from '../src/selection.js';
 import { sumOfAutocorrelations } from '../src/correlate.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
 import { A2_PER_PS } from '../src/units.js';
+import { checkMassesUsed } from '../src/masses.js';
+import { warnDiffusionRange } from '../src/checks.js';
 import { yehHummerCorrection, YEH_HUMMER_XI } from '../src/transport.js';
 import {
   blockStatistics,
@@ -331,6 +333,8 @@ function createStore(ctx: PassContext, opts: StoreOptions) {
   const fullMap = layout.map;
   const map = opts.sites ? subsetSiteMap(fullMap, opts.sites) : fullMap;
   const removeDrift = opts.removeDrift ?? true;
+  // Drift removal and molecule centres weigh atoms by mass: say where the masses came from.
+  if (removeDrift || layout.molecules) checkMassesUsed(topo, ctx.file ?? '<input>', ctx.warnings, removeDrift ? 'removing the centre-of-mass drift (--keep-drift keeps it)' : 'the molecules\' centres of mass');
   const q = typeof opts.collectiveCharges === 'function' ? opts.collectiveCharges(layout) : opts.collectiveCharges ?? null;
   if (q && q.length !== fullMap.count) throw new UsageError('collective charges must be given for every site of the layout');
   const need = new Uint8Array(topo.atoms);
@@ -1543,6 +1547,7 @@ export function finishMsd(
   });
   const warn = unwrapWarning(info);
   if (warn) ctx.warnings.push(warn);
+  for (const g of groups) warnDiffusionRange(ctx, g.label, g.diffusion.value, 'MSD');
   return {
     groups,
     dimensions: dims,

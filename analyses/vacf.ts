@@ -42,6 +42,7 @@ import { PLANE_OPTION, SHARED, SITE_OPTIONS, plateauOptions, siteValues, type Op
 import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js';
 import { CAUTION } from '../src/caution.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
+import { warnDiffusionRange } from '../src/checks.js';
 import {
   blockStatistics,
   correlationSamplingProblem,
@@ -541,6 +542,7 @@ export function finishVacf(
       },
     });
   });
+  for (const g of groups) warnDiffusionRange(ctx, g.label, g.diffusion.value, 'VACF');
   return {
     groups,
     velocitySource: source,

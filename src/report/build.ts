@@ -505,6 +505,9 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
       ['mass density', ov.massDensity ? `${formatSig(ov.massDensity.value, 5)} g/cm³` : 'unknown (some masses unknown: give --masses)'],
       ['velocities in the file', ov.hasVelocities ? 'yes' : 'no'],
       ['temperature (given)', `${formatSig(T, 6)} K`],
+      ['kinetic temperature', ov.kineticTemperature ? `${formatSig(ov.kineticTemperature.value, 4)} K (velocities and masses, 3 degrees of freedom per atom)` : '—'],
+      ...ov.atomKinds.map((k) => [`mass of ${k.label}`, `${k.mass !== null ? `${formatSig(k.mass, 6)} g/mol` : 'unknown'} (${k.from}); element ${k.element === 'X' ? 'none' : k.element}${k.elementFrom !== k.from ? ` (${k.elementFrom})` : ''}`]),
+      ...Object.entries(data.inputs[0]?.fileUnits ?? {}).map(([what, u]) => [`${what} read in`, `${u.unit.replace(/^A/, 'Å')} (${u.from})`]),
     ];
     for (const [l, q] of data.labelCharges) rows.push([`charge of ${l}`, `${q > 0 ? '+' : ''}${q} e`]);
     sections.push({ id: 'system', title: 'System', text: 'What was read, and the settings every number below depends on.', figures: [], tables: [{ headers: ['property', 'value'], rows }] });
