@@ -1365,7 +1365,7 @@ export const YEH_HUMMER_PLANE_ERROR =
 /** Frame interval of a context, or a usage error asking for it. */
 export function requireFrameInterval(ctx: PassContext): number {
   if (ctx.frameInterval === null || !(ctx.frameInterval > 0)) {
-    throw new UsageError('the file carries no frame times: give the time between frames with --frame-interval');
+    throw new UsageError(`${ctx.file ?? 'the file'} carries no frame times: give the time between frames with --frame-interval`);
   }
   return ctx.frameInterval;
 }

@@ -20,7 +20,7 @@
  * Units: a line of units right after the names — a '#' comment after a '#' names line
  * ("# time pxy pxz" then "# ps bar bar"), or a row after a header row — is read as the columns'
  * units, not as names: every token of it must be a unit sojourn knows (UNIT_WORDS, optionally in
- * parentheses or brackets; "-" for none).
+ * parentheses or brackets; "-" for none), at least one of them a unit.
  *
  * The time column is the first column named time or t, optionally with its unit: time_ps,
  * "time (fs)", t[ns] (case-insensitive). Its values must be strictly increasing. Its unit comes
@@ -95,7 +95,7 @@ export const UNIT_WORDS: ReadonlySet<string> = new Set([
   'J/mol', 'kJ/mol', 'kcal/mol', 'eV', 'kJ', 'kcal', 'J',
   'A', 'Å', 'nm', 'A^3', 'Å^3', 'nm^3', 'A3', 'nm3', 'Å³', 'nm³',
   'g/cm^3', 'g/cm3', 'kg/m^3', 'kg/m3', 'g/cm³', 'kg/m³',
-  '1', '-',
+  '-',
 ]);
 
 /** The unit a units-line token names (brackets removed), or null when it is not one. */
@@ -104,9 +104,9 @@ export function unitWord(token: string): string | null {
   return UNIT_WORDS.has(t) ? t : null;
 }
 
-/** True when every token is a unit word (a units line). */
+/** True when every token is a unit word or "-", and at least one is a unit (a units line; a row of "-" is not one). */
 function isUnitsLine(tokens: string[]): boolean {
-  return tokens.length > 0 && tokens.every((t) => unitWord(t) !== null);
+  return tokens.length > 0 && tokens.every((t) => unitWord(t) !== null) && tokens.some((t) => unitWord(t) !== '-');
 }
 
 type Kind = 'csv' | 'tsv' | 'ws';

@@ -413,9 +413,10 @@ export interface CheckSettings {
   intervalFromOption: boolean;
 }
 
-/** Three significant figures without binary noise. */
+/** Three significant figures without binary noise; powers of ten for very small or large values ("1.25e-6"). */
 function sig(x: number): string {
-  return String(Number(x.toPrecision(3)));
+  const v = Number(x.toPrecision(3));
+  return v !== 0 && (Math.abs(v) < 1e-3 || Math.abs(v) >= 1e6) ? v.toExponential() : String(v);
 }
 
 /** Velocity units whose factor makes `tKin` (computed in `current`) closest to `target`, within a factor 3; null if none. */
