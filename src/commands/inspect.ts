@@ -31,7 +31,7 @@ export function renderOverview(file: string, r: OverviewResult, input?: InputRec
     ['frame interval', r.frameInterval ? `${formatSig(r.frameInterval.value, 6)} ps` : 'unknown'],
     ['number density', r.numberDensity ? `${formatSig(r.numberDensity.value, 5)} Å⁻³` : '—'],
     ['mass density', r.massDensity ? `${formatSig(r.massDensity.value, 5)} g/cm³` : '—'],
-    ['kinetic temperature', r.kineticTemperature ? `${formatSig(r.kineticTemperature.value, 4)} K (from velocities and masses, 3 degrees of freedom per atom)` : '—'],
+    ['kinetic temperature', r.kineticTemperature ? `${formatSig(r.kineticTemperature.value, 4)} K (equipartition, 3 per atom)` : '—'],
   ];
   for (const [what, u] of Object.entries(input?.fileUnits ?? {})) rows.push([`${what} read in`, `${u.unit.replace(/^A/, 'Å')} (${u.from})`]);
   rows.push(...massRows(r));

@@ -505,7 +505,7 @@ export function buildReport(data: ReportData, durationSeconds: number): BuiltRep
       ['mass density', ov.massDensity ? `${formatSig(ov.massDensity.value, 5)} g/cm³` : 'unknown (some masses unknown: give --masses)'],
       ['velocities in the file', ov.hasVelocities ? 'yes' : 'no'],
       ['temperature (given)', `${formatSig(T, 6)} K`],
-      ['kinetic temperature', ov.kineticTemperature ? `${formatSig(ov.kineticTemperature.value, 4)} K (velocities and masses, 3 degrees of freedom per atom)` : '—'],
+      ['kinetic temperature', ov.kineticTemperature ? `${formatSig(ov.kineticTemperature.value, 4)} K (equipartition over 3N degrees of freedom, from the velocities and masses)` : '—'],
       ...ov.atomKinds.map((k) => [`mass of ${k.label}`, `${k.mass !== null ? `${formatSig(k.mass, 6)} g/mol` : 'unknown'} (${k.from}); element ${k.element === 'X' ? 'none' : k.element}${k.elementFrom !== k.from ? ` (${k.elementFrom})` : ''}`]),
       ...Object.entries(data.inputs[0]?.fileUnits ?? {}).map(([what, u]) => [`${what} read in`, `${u.unit.replace(/^A/, 'Å')} (${u.from})`]),
     ];
