@@ -85,7 +85,7 @@ export interface ReadTableOptions {
 
 const NUMBER_RE = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eEdD][+-]?\d+)?$/;
 /** A time column's name, with the unit it may carry ("time", "t", "time_ps", "time (fs)", "t[ns]"). */
-const TIME_RE = /^(?:time|t)(?:\s*_?\s*[([]?\s*(fs|ps|ns)\s*[)\]]?)?$/i;
+const TIME_RE = /^(?:time|t)(?:_(fs|ps|ns)|\s*[([]\s*(fs|ps|ns)\s*[)\]])?$/i;
 
 /** Unit words a units line may hold (besides "-" for none), optionally in parentheses or brackets. */
 export const UNIT_WORDS: ReadonlySet<string> = new Set([
@@ -542,7 +542,8 @@ export async function readTable(path: string, opts: ReadTableOptions): Promise<T
   let timeQuantum = 0;
   const timeName = time ? parser.timeName() : null;
   if (time && timeName !== null) {
-    const inName = TIME_RE.exec(timeName)?.[1]?.toLowerCase() ?? null;
+    const m = TIME_RE.exec(timeName);
+    const inName = (m?.[1] ?? m?.[2])?.toLowerCase() ?? null;
     const inLine = units.get(timeName) ?? null;
     if (inName && inLine && inName !== inLine) {
       throw new InputError(source.name, parser.unitsLine, null, `the time column '${timeName}' is named in ${inName} but the units line gives ${inLine}`);

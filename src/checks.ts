@@ -504,6 +504,10 @@ export function lowTemperatureWarning(temperatureK: number): string | null {
  * - the first frame spreading over more than 1.5 cell widths: a warning (cell and coordinates
  *   in different units?);
  * - atoms closer than 0.5 Å in more than half the frames checked: a warning.
+ *
+ * Units the user states explicitly are believed: with --velocity-unit (and --time-unit, or a
+ * --frame-interval) the two errors above become warnings (e.g. frames that are not consecutive
+ * snapshots of one run).
  */
 export function judgeChecks(r: ChecksResult, s: CheckSettings, warnings: Warnings): void {
   const add = (w: string) => {
@@ -520,7 +524,10 @@ export function judgeChecks(r: ChecksResult, s: CheckSettings, warnings: Warning
     if (s.temperature !== null) {
       velocitiesPlausible = ratio >= 1 / 30 && ratio <= 30;
       velocityHint = likelyVelocityUnit(tk, s.temperature, s.velocityUnit);
-      if (!velocitiesPlausible) {
+      // Units the user stated explicitly are believed: the mismatch is then a warning.
+      if (!velocitiesPlausible && s.velocityUnitGiven) {
+        add(`${file}: the kinetic temperature from the velocities (in ${s.velocityUnit}, as given) and masses is ${sig(tk)} K, ${sig(ratio >= 1 ? ratio : 1 / ratio)} times ${ratio >= 1 ? 'above' : 'below'} --temperature ${sig(s.temperature)} K`);
+      } else if (!velocitiesPlausible) {
         const lowT = s.temperature < LOW_TEMPERATURE && tk >= LOW_TEMPERATURE && tk < 1e4;
         throw new UsageError(
           `${file}: the kinetic temperature from the velocities and masses is ${sig(tk)} K, ${sig(ratio >= 1 ? ratio : 1 / ratio)} times ${ratio >= 1 ? 'above' : 'below'} --temperature ${sig(s.temperature)} K: ` +
@@ -528,10 +535,11 @@ export function judgeChecks(r: ChecksResult, s: CheckSettings, warnings: Warning
               ? `the velocities are probably in ${velocityHint}, not ${s.velocityUnit}${s.velocityUnitGiven ? '' : ' (the unit sojourn assumes)'}: give --velocity-unit ${velocityHint}`
               : lowT
                 ? `--temperature looks like a reduced temperature; give it in kelvin`
-                : `the velocities (taken in ${s.velocityUnit}), the masses or --temperature are not in the units sojourn reads (--velocity-unit, --masses in g/mol, --temperature in K)`),
+                : `the velocities (taken in ${s.velocityUnit}), the masses or --temperature are not in the units sojourn reads (--velocity-unit, --masses in g/mol, --temperature in K)`) +
+            ' (if the velocities are in the unit assumed, say so with --velocity-unit: the mismatch is then a warning)',
         );
       }
-      if (ratio < 0.5 || ratio > 2) {
+      if (velocitiesPlausible && (ratio < 0.5 || ratio > 2)) {
         add(
           `${file}: the kinetic temperature from the velocities and masses is ${sig(tk)} K, but --temperature is ${sig(s.temperature)} K (constrained bonds lower the estimate by up to a third; a larger difference suggests wrong velocity units (taken in ${s.velocityUnit}) or masses)`,
         );
@@ -554,7 +562,11 @@ export function judgeChecks(r: ChecksResult, s: CheckSettings, warnings: Warning
     const timeFix = s.intervalFromOption
       ? 'the time between frames given with --frame-interval is too short'
       : `the frame times are probably in ${s.timeUnit === 'fs' ? 'ps' : 'ns'}, not ${s.timeUnit}${s.timeUnitGiven ? '' : ' (the unit sojourn assumes)'}: give --time-unit ${s.timeUnit === 'fs' ? 'ps' : 'ns'}`;
-    if (q > 30) {
+    // Both units stated explicitly (or the interval given): believed, the mismatch is a warning.
+    const stated = s.velocityUnitGiven && (s.timeUnitGiven || s.intervalFromOption);
+    if (q > 30 && stated) {
+      add(`${file}: between consecutive frames the atoms move ${sig(q)} times farther than their velocities (in ${s.velocityUnit}) allow in the time between frames (${s.intervalFromOption ? '--frame-interval' : `times in ${s.timeUnit}`}): are the frames consecutive snapshots of one run?`);
+    } else if (q > 30) {
       const velocityFix = velocityHint ?? (s.velocityUnit === 'A/fs' || s.velocityUnit === 'Å/fs' ? null : 'A/fs');
       const why =
         velocitiesPlausible === true
@@ -563,7 +575,7 @@ export function judgeChecks(r: ChecksResult, s: CheckSettings, warnings: Warning
             ? `the velocities are probably in ${velocityFix}: give --velocity-unit ${velocityFix}`
             : `either ${timeFix}, or the velocities are in another unit than ${s.velocityUnit} (--velocity-unit)`;
       throw new UsageError(
-        `${file}: between consecutive frames the atoms move ${sig(q)} times farther than their velocities allow in the time between frames (RMS over ${r.pairs} frame pairs): ${why}`,
+        `${file}: between consecutive frames the atoms move ${sig(q)} times farther than their velocities allow in the time between frames (RMS over ${r.pairs} frame pairs): ${why} (if the units assumed are right, say so with --velocity-unit and --time-unit: the mismatch is then a warning)`,
       );
     }
     if (q < 1 / 300) {

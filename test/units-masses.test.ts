@@ -171,6 +171,10 @@ describe('time unit: frame times taken in ps unless said, checked against the ve
     expect(r.status).toBe(2);
     expect(r.stdout).toBe('');
     expect(r.stderr).toMatch(new RegExp(`${path}: between consecutive frames the atoms move 1000 times farther than their velocities allow .*give --time-unit ns`));
+    // Units stated explicitly are believed: the mismatch is then a warning, and the number stands.
+    const stated = runCli(['inspect', path, '--json', '--threads', '1', '--time-unit', 'ps', '--velocity-unit', 'A/ps']);
+    expect(stated.status).toBe(0);
+    expect(JSON.parse(stated.stdout).warnings.join('\n')).toMatch(/move 1000 times farther than their velocities \(in A\/ps\) allow/);
     const ok = runCli(['inspect', path, '--json', '--threads', '1', '--time-unit', 'ns']);
     expect(ok.status).toBe(0);
     const j = JSON.parse(ok.stdout);
