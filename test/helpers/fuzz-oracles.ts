@@ -469,7 +469,7 @@ export function checkPdb(text: string, out: Extract<TrajOutcome, { ok: true }>, 
       p.expect(l.length >= 54, () => `line ${ln}: an ATOM record of ${l.length} columns was accepted`);
       const name = (l + '    ').slice(12, 16);
       p.expect(name === names0[i], () => `line ${ln}: atom name '${name}' differs from frame 1's '${names0[i]}'`);
-      if (k === 0) p.expect(out.labels[i] === name.trim(), () => `label ${out.labels[i]} is not the name '${name}'`);
+      if (k === 0) p.expect(out.labels[i] === utf8Of(name).trim(), () => `label ${out.labels[i]} is not the name '${name}'`);
       for (let d = 0; d < 3; d++) {
         const tok = l.slice(30 + 8 * d, 38 + 8 * d).trim();
         p.expect(same(f.positions[3 * i + d]!, numberOf(tok)), () => `line ${ln} coordinate ${d}: read ${f.positions[3 * i + d]}, columns say '${tok}'`);
