@@ -16,6 +16,7 @@ import { msdAnalysis } from './msd-analysis.js';
 import { diffusionAnalysis } from './diffusion-analysis.js';
 import { conductivityAnalysis } from './conductivity-analysis.js';
 import { storePass } from '../src/store/store.js';
+import { checksPass } from '../src/checks.js';
 
 /** The analyses that are commands of their own (src/cli builds one command per entry). */
 export const ANALYSES: readonly AnyAnalysis[] = [rdfAnalysis, shellAnalysis, msdAnalysis, vacfAnalysis, diffusionAnalysis, conductivityAnalysis];
@@ -27,6 +28,7 @@ export const PASS_FACTORIES: Readonly<Record<string, PassFactory>> = {
   framewise: () => framewiseObservables,
   'rdf-auto': reportRdfPass,
   store: storePass,
+  checks: () => checksPass,
 };
 
 /** Build the pass `kind` with `options` (plain data), carrying its recipe for threads and merges. */

@@ -27,6 +27,8 @@ import { quantity } from '../src/types.js';
 import { estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { AnalysisError, UsageError } from '../src/errors.js';
 import { A2_PER_PS } from '../src/units.js';
+import { checkMassesUsed } from '../src/masses.js';
+import { warnDiffusionRange } from '../src/checks.js';
 import { yehHummerCorrection, YEH_HUMMER_XI } from '../src/transport.js';
 import {
   maxLagIndex,
@@ -325,7 +327,7 @@ export const YEH_HUMMER_PLANE_ERROR =
 /** Frame interval of a context, or a usage error asking for it. */
 export function requireFrameInterval(ctx: PassContext): number {
   if (ctx.frameInterval === null || !(ctx.frameInterval > 0)) {
-    throw new UsageError('the file carries no frame times: give the time between frames with --frame-interval');
+    throw new UsageError(`${ctx.file ?? 'the file'} carries no frame times: give the time between frames with --frame-interval`);
   }
   return ctx.frameInterval;
 }
@@ -504,6 +506,7 @@ export function finishMsd(
   });
   const warn = unwrapWarning(info);
   if (warn) ctx.warnings.push(warn);
+  for (const g of groups) warnDiffusionRange(ctx, g.label, g.diffusion.value, 'MSD');
   return {
     groups,
     dimensions: dims,

@@ -7,6 +7,8 @@ import { quantity } from '../src/types.js';
 import { cellParameters, volume, sameCell } from '../src/cell.js';
 import { speciesCounts } from '../src/selection.js';
 import { AVOGADRO } from '../src/units.js';
+import { atomKinds, checkMassesUsed, type AtomKind } from '../src/masses.js';
+import { kineticTemperature } from '../src/checks.js';
 
 /** Partial state: counts and the cell/volume statistics of a frame range. */
 export interface OverviewPartial {
@@ -19,6 +21,9 @@ export interface OverviewPartial {
   hasVelocities: boolean;
   firstTime: number | null;
   lastTime: number | null;
+  /** Σ over frames with velocities of the frame's kinetic temperature (K), and those frames. */
+  kineticSum: number;
+  kineticFrames: number;
 }
 
 export interface OverviewResult {
@@ -33,6 +38,10 @@ export interface OverviewResult {
   frameInterval: Quantity | null;
   numberDensity: Quantity | null;
   massDensity: Quantity | null;
+  /** Per atom label: the element and mass used and where they came from. */
+  atomKinds: AtomKind[];
+  /** Mean kinetic (equipartition) temperature of the frames, from velocities and masses; null without velocities. */
+  kineticTemperature: Quantity | null;
 }
 
 /**
@@ -44,16 +53,26 @@ export function massDensity(totalMassGPerMol: number, volumeA3: number): number 
 
 export const overviewPass: Pass<OverviewPartial, OverviewResult> = {
   name: 'overview',
-  create() {
+  create(ctx: PassContext) {
+    // The overview states the mass density and the kinetic temperature: both need the masses.
+    checkMassesUsed(ctx.topology, ctx.file ?? '<input>', ctx.warnings, 'the mass density and kinetic temperature');
+    const masses = ctx.topology.masses;
     const p: OverviewPartial = {
       frames: 0, firstCell: null, cellVaries: false, volumeSum: 0, volumeSumSq: 0, cellFrames: 0,
-      hasVelocities: false, firstTime: null, lastTime: null,
+      hasVelocities: false, firstTime: null, lastTime: null, kineticSum: 0, kineticFrames: 0,
     };
     let first: Float64Array | null = null;
     return {
       frame(f: Frame) {
         p.frames++;
-        if (f.velocities) p.hasVelocities = true;
+        if (f.velocities) {
+          p.hasVelocities = true;
+          const t = kineticTemperature(f.velocities, masses);
+          if (Number.isFinite(t)) {
+            p.kineticSum += t;
+            p.kineticFrames++;
+          }
+        }
         if (f.time !== null) {
           if (p.firstTime === null) p.firstTime = f.time;
           p.lastTime = f.time;
@@ -86,6 +105,8 @@ export const overviewPass: Pass<OverviewPartial, OverviewResult> = {
       hasVelocities: a.hasVelocities || b.hasVelocities,
       firstTime: a.firstTime ?? b.firstTime,
       lastTime: b.lastTime ?? a.lastTime,
+      kineticSum: a.kineticSum + b.kineticSum,
+      kineticFrames: a.kineticFrames + b.kineticFrames,
     };
   },
   finish(p, ctx: PassContext): OverviewResult {
@@ -120,6 +141,8 @@ export const overviewPass: Pass<OverviewPartial, OverviewResult> = {
       frameInterval: ctx.frameInterval !== null ? quantity(ctx.frameInterval, null, 'ps') : null,
       numberDensity,
       massDensity: mass,
+      atomKinds: atomKinds(topo),
+      kineticTemperature: p.kineticFrames > 0 ? quantity(p.kineticSum / p.kineticFrames, null, 'K') : null,
     };
   },
 };

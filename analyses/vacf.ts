@@ -40,6 +40,7 @@ import { estimate, noteReason, reason, type Estimate, type Reason } from '../src
 import { sumOfAutocorrelations, nextPowerOfTwo } from '../src/correlate.js';
 import { AnalysisError } from '../src/errors.js';
 import { A2_PER_PS, SPEED_OF_LIGHT } from '../src/units.js';
+import { warnDiffusionRange } from '../src/checks.js';
 import {
   maxLagIndex,
   segmentFactorNote,
@@ -548,6 +549,7 @@ export function finishVacf(
       },
     });
   });
+  for (const g of groups) warnDiffusionRange(ctx, g.label, g.diffusion.value, 'VACF');
   return {
     groups,
     velocitySource: source,

@@ -3,7 +3,8 @@
  */
 import { totalmem } from 'node:os';
 import { InputError } from '../src/errors.js';
-import { atomicMass, elementFromLabel, normaliseElement } from '../src/elements.js';
+import { atomicMass, normaliseElement, readLabel } from '../src/elements.js';
+import { MASS_FROM } from '../src/masses.js';
 import type { Residues, Topology } from '../src/types.js';
 
 /**
@@ -76,25 +77,31 @@ export function buildTopology(
   const n = labels.length;
   const elements = new Array<string>(n);
   const masses = new Float64Array(n);
-  const cache = new Map<string, string>();
+  const massFrom = new Uint8Array(n);
+  const cache = new Map<string, { element: string; code: number }>();
   for (let i = 0; i < n; i++) {
     const given = elementColumn ? elementColumn[i] : null;
     let el: string;
     if (given) {
       el = normaliseElement(given) ?? 'X';
+      massFrom[i] = el === 'X' ? MASS_FROM.none : MASS_FROM.column;
     } else {
       const label = labels[i]!;
       let c = cache.get(label);
       if (c === undefined) {
-        c = elementFromLabel(label);
+        const r = readLabel(label);
+        const code = r.kind === 'symbol' ? MASS_FROM.symbol : r.kind === 'inferred' ? MASS_FROM.inferred : r.kind === 'ambiguous' ? MASS_FROM.ambiguous : MASS_FROM.none;
+        c = { element: r.element, code };
         cache.set(label, c);
       }
-      el = c;
+      el = c.element;
+      massFrom[i] = c.code;
     }
     elements[i] = el;
     masses[i] = el === 'X' ? NaN : atomicMass(el);
+    if (!Number.isFinite(masses[i]!)) massFrom[i] = MASS_FROM.none;
   }
-  return { atoms: n, labels, elements, masses, charges, residues };
+  return { atoms: n, labels, elements, masses, massFrom, charges, residues };
 }
 
 /**

@@ -31,8 +31,17 @@
  */
 import { InputError } from '../src/errors.js';
 
+/**
+ * The longest line accepted, in bytes (1 MiB). No line of a trajectory or table needs more; a
+ * longer one is corrupt or not text, and is an InputError naming file and line instead of a
+ * buffer that grows until memory runs out (common practice, no source).
+ */
+export const MAX_LINE_BYTES = 1 << 20;
+
 /** A synchronous line-by-line parser. */
 export interface LineHandler<T> {
+  /** The input's name for messages (the too-long-line error names it). */
+  readonly file?: string;
   /**
    * Handle one line: bytes buf[start, end), without the '\n' and without a '\r' just before
    * it. `buf` is only valid during the call. Return a completed item or null. `st.base + start`
@@ -147,6 +156,11 @@ export async function* splitLines<T>(
       let pos = 0;
       if (carryLen > 0) {
         const nl = findNewline(chunk, 0);
+        if ((nl < 0 ? carryLen + n : carryLen + nl) > MAX_LINE_BYTES) {
+          const e = lineTooLong(handler, st.lineNo + 1);
+          if (onHandlerError) await onHandlerError(e);
+          throw e;
+        }
         if (nl < 0) {
           // The whole chunk belongs to the pending line.
           carry = grow(carry, carryLen + n);
@@ -187,6 +201,11 @@ export async function* splitLines<T>(
         yield item;
       }
       if (pos < n) {
+        if (n - pos > MAX_LINE_BYTES) {
+          const e = lineTooLong(handler, st.lineNo + 1);
+          if (onHandlerError) await onHandlerError(e);
+          throw e;
+        }
         carry = grow(carry, n - pos);
         carry.set(chunk.subarray(pos), 0);
         carryLen = n - pos;
@@ -237,6 +256,7 @@ function runLines<T>(handler: LineHandler<T>, buf: Uint8Array, pos: number, n: n
     }
     const nl = findNewline(buf, pos);
     if (nl < 0 || nl >= n) return pos;
+    if (nl - pos > MAX_LINE_BYTES) throw lineTooLong(handler, st.lineNo + 1);
     const end = nl > pos && buf[nl - 1] === 13 ? nl - 1 : nl;
     const item = handler.line(buf, pos, end, ++st.lineNo, st);
     pos = nl + 1;
@@ -245,6 +265,16 @@ function runLines<T>(handler: LineHandler<T>, buf: Uint8Array, pos: number, n: n
       return pos;
     }
   }
+}
+
+/** The error for line `lineNo` longer than MAX_LINE_BYTES. */
+function lineTooLong<T>(handler: LineHandler<T>, lineNo: number): InputError {
+  return new InputError(
+    handler.file ?? '<input>',
+    lineNo,
+    null,
+    `line ${lineNo} is longer than ${MAX_LINE_BYTES / (1 << 20)} MiB without a line break: no line of a trajectory or table is that long (a corrupt or binary file?)`,
+  );
 }
 
 function grow(buf: Uint8Array, need: number): Uint8Array {
@@ -386,6 +416,14 @@ function numberFromBytes(buf: Uint8Array, start: number, end: number): number {
     s += c === 100 || c === 68 ? 'e' : String.fromCharCode(c);
   }
   return Number(s);
+}
+
+/**
+ * Bytes buf[start, end) decoded as UTF-8 (text from input files: labels, names, messages);
+ * malformed sequences become U+FFFD.
+ */
+export function utf8(buf: Uint8Array, start: number, end: number): string {
+  return Buffer.from(buf.buffer, buf.byteOffset + start, end - start).toString('utf8');
 }
 
 /** Text of bytes buf[start, end) (Latin-1; the formats read here are ASCII). */

@@ -41,7 +41,7 @@ import { InputError } from '../src/errors.js';
 import type { Frame, Residues, Topology } from '../src/types.js';
 import { cellFromParameters } from '../src/cell.js';
 import { buildTopology, frameWanted, tooManyAtoms, truncatedLastFrame, type FrameSelection, type TrajectoryReadOptions } from './common.js';
-import { LineCursor, latin1, type LineHandler, type LineState } from './lines.js';
+import { LineCursor, latin1, utf8, type LineHandler, type LineState } from './lines.js';
 
 const DEG = Math.PI / 180;
 
@@ -110,11 +110,11 @@ function recordIs(buf: Uint8Array, s: number, e: number, name: string): boolean 
   return true;
 }
 
-/** Text of 0-based columns [from, to) of the line, '' past its end. */
+/** Text (UTF-8) of 0-based byte columns [from, to) of the line, '' past its end. */
 function field(buf: Uint8Array, s: number, e: number, from: number, to: number): string {
   const a = s + from;
   const b = Math.min(s + to, e);
-  return a < b ? latin1(buf, a, b) : '';
+  return a < b ? utf8(buf, a, b) : '';
 }
 
 /** The PDB line state machine. Create one per file. */

@@ -17,8 +17,16 @@
  * Names in CSV headers may be "quoted". Requested names match exactly, else
  * case-insensitively when that is unambiguous.
  *
- * The time column (ps) is the first column named time, t, time_ps or "time (ps)"
- * (case-insensitive). Its values must be strictly increasing.
+ * Units: a line of units right after the names — a '#' comment after a '#' names line
+ * ("# time pxy pxz" then "# ps bar bar"), or a row after a header row — is read as the columns'
+ * units, not as names: every token of it must be a unit sojourn knows (UNIT_WORDS, optionally in
+ * parentheses or brackets; "-" for none), at least one of them a unit.
+ *
+ * The time column is the first column named time or t, optionally with its unit: time_ps,
+ * "time (fs)", t[ns] (case-insensitive). Its values must be strictly increasing. Its unit comes
+ * from its name, else from the units line, else from the caller (`timeUnit`, e.g. --time-unit),
+ * else it is taken as ps (and `timeUnit.from` says 'assumed'); a caller's unit that contradicts
+ * the file is a UsageError. The time column is returned in ps.
  *
  * Every data row must have exactly as many numbers as there are columns; non-numbers, NaN,
  * infinities and ragged rows are InputErrors naming file:line:column. Zero data rows is an
@@ -31,7 +39,9 @@ import { statSync } from 'node:fs';
 import type { Readable } from 'node:stream';
 import { InputError, UsageError } from '../src/errors.js';
 import { ByteSource, type ByteSourceOptions } from './bytes.js';
-import { LineCursor, fastFloat, latin1, splitLines, type FloatEnd, type LineHandler, type LineState } from './lines.js';
+import { LineCursor, fastFloat, latin1, splitLines, utf8, type FloatEnd, type LineHandler, type LineState } from './lines.js';
+import { UNIT_FACTORS } from '../src/units.js';
+import { columnDecimals } from '../src/precision.js';
 
 export interface TableData {
   path: string;
@@ -47,6 +57,12 @@ export interface TableData {
   rows: number;
   /** The time column (ps), or null when the table has none. */
   time: Float64Array | null;
+  /** Units by column name, as the file gives them (units line, or the time column's name). */
+  units: Map<string, string>;
+  /** The time column's unit and where it came from ('file', the caller's option name, or 'assumed'); null without a time column. */
+  timeUnit: { unit: string; from: string } | null;
+  /** The step (ps) to which the time column is rounded as written (10^-decimals), or 0. */
+  timeQuantum: number;
 }
 
 export interface ReadTableOptions {
@@ -63,10 +79,35 @@ export interface ReadTableOptions {
   thread?: boolean | 'auto';
   /** The reading thread's script (tests). */
   threadScript?: string | URL;
+  /** Unit of the time column when the file does not say (fs, ps, ns), and the option that gave it. */
+  timeUnit?: { unit: string; option: string };
 }
 
 const NUMBER_RE = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eEdD][+-]?\d+)?$/;
-const TIME_RE = /^(?:time|t|time_ps|time\s*\(ps\))$/i;
+/** A time column's name, with the unit it may carry ("time", "t", "time_ps", "time (fs)", "t[ns]"). */
+const TIME_RE = /^(?:time|t)(?:_(fs|ps|ns)|\s*[([]\s*(fs|ps|ns)\s*[)\]])?$/i;
+
+/** Unit words a units line may hold (besides "-" for none), optionally in parentheses or brackets. */
+export const UNIT_WORDS: ReadonlySet<string> = new Set([
+  'fs', 'ps', 'ns',
+  'Pa', 'kPa', 'MPa', 'GPa', 'bar', 'atm',
+  'K',
+  'J/mol', 'kJ/mol', 'kcal/mol', 'eV', 'kJ', 'kcal', 'J',
+  'A', 'Å', 'nm', 'A^3', 'Å^3', 'nm^3', 'A3', 'nm3', 'Å³', 'nm³',
+  'g/cm^3', 'g/cm3', 'kg/m^3', 'kg/m3', 'g/cm³', 'kg/m³',
+  '-',
+]);
+
+/** The unit a units-line token names (brackets removed), or null when it is not one. */
+export function unitWord(token: string): string | null {
+  const t = token.replace(/^[([](.*)[)\]]$/, '$1').trim();
+  return UNIT_WORDS.has(t) ? t : null;
+}
+
+/** True when every token is a unit word or "-", and at least one is a unit (a units line; a row of "-" is not one). */
+function isUnitsLine(tokens: string[]): boolean {
+  return tokens.length > 0 && tokens.every((t) => unitWord(t) !== null) && tokens.some((t) => unitWord(t) !== '-');
+}
 
 type Kind = 'csv' | 'tsv' | 'ws';
 
@@ -122,6 +163,11 @@ class TableParser implements LineHandler<never> {
   /** Line of the last data row. */
   private lastDataLine = 0;
   rows = 0;
+  /** Units by column index (from a units line), and the line that gave them. */
+  units: (string | null)[] = [];
+  unitsLine = 0;
+  /** A header row was read: the next row may be a units row. */
+  private unitsRowPossible = false;
 
   constructor(file: string, requested: string[] | undefined, warnings: string[], textBytes: () => number | null = () => null) {
     this.file = file;
@@ -142,6 +188,14 @@ class TableParser implements LineHandler<never> {
     }
     if (!this.started) {
       if (this.startData(buf, s, e, lineNo)) return null; // header row
+    } else if (this.unitsRowPossible) {
+      this.unitsRowPossible = false;
+      const tokens = splitNames(utf8(buf, s, e), this.kind);
+      if (tokens.length === this.ncols && isUnitsLine(tokens)) {
+        this.units = tokens.map((t) => (unitWord(t) === '-' ? null : unitWord(t)));
+        this.unitsLine = lineNo;
+        return null;
+      }
     }
     const offset = st === undefined ? -1 : st.base + s;
     if (this.dataStart < 0) this.dataStart = offset;
@@ -164,7 +218,7 @@ class TableParser implements LineHandler<never> {
   }
 
   private commentLine(buf: Uint8Array, p: number, e: number, lineNo: number, c: number): void {
-    const text = latin1(buf, p, e);
+    const text = utf8(buf, p, e);
     if (c === 35) {
       this.comments.push({ text: text.replace(/^#+/, ''), line: lineNo });
     } else if (c === 64) {
@@ -178,12 +232,13 @@ class TableParser implements LineHandler<never> {
   /** First non-comment line: detect the format and the names. Returns true for a header row. */
   private startData(buf: Uint8Array, s: number, e: number, lineNo: number): boolean {
     this.started = true;
-    const text = latin1(buf, s, e);
+    const text = utf8(buf, s, e);
     this.kind = text.includes(',') ? 'csv' : text.includes('\t') ? 'tsv' : 'ws';
     const tokens = splitNames(text, this.kind);
     const numeric = tokens.filter((t) => NUMBER_RE.test(t)).length;
     if (numeric === 0) {
       this.setNames(tokens, lineNo);
+      this.unitsRowPossible = true;
       return true;
     }
     // Count the data columns of this row.
@@ -196,8 +251,20 @@ class TableParser implements LineHandler<never> {
       const cands = [splitNames(text, this.kind), splitNames(text, 'ws')];
       const cand = cands.find((c) => c.length === n && c.every((x) => x.length > 0));
       if (cand) {
-        names = cand;
-        namesLine = this.comments[k]!.line;
+        // A units line right after the names line ("# time pxy" then "# ps bar") gives units, not names.
+        const before = k > 0 ? this.comments[k - 1]! : null;
+        const namesBefore = before && before.line === this.comments[k]!.line - 1
+          ? [splitNames(before.text, this.kind), splitNames(before.text, 'ws')].find((c) => c.length === n && c.every((x) => x.length > 0))
+          : undefined;
+        if (isUnitsLine(cand) && namesBefore && !isUnitsLine(namesBefore)) {
+          this.units = cand.map((t) => (unitWord(t) === '-' ? null : unitWord(t)));
+          this.unitsLine = this.comments[k]!.line;
+          names = namesBefore;
+          namesLine = before!.line;
+        } else {
+          names = cand;
+          namesLine = this.comments[k]!.line;
+        }
         break;
       }
     }
@@ -404,6 +471,11 @@ class TableParser implements LineHandler<never> {
     this.fill = 0;
   }
 
+  /** Name of the time column, or null. */
+  timeName(): string | null {
+    return this.timeCol >= 0 ? this.names[this.timeCol]! : null;
+  }
+
   /**
    * The kept columns as arrays of exactly `rows` values: an estimated array is handed out as a
    * view of its first `rows` values when at most 1/8 of it is unused (else copied), blocks are
@@ -461,6 +533,35 @@ export async function readTable(path: string, opts: ReadTableOptions): Promise<T
     // no items: the parser accumulates
   }
   const { columns, time } = parser.result();
+  const units = new Map<string, string>();
+  parser.names.forEach((name, i) => {
+    const u = parser.units[i];
+    if (u) units.set(name, u);
+  });
+  let timeUnit: TableData['timeUnit'] = null;
+  let timeQuantum = 0;
+  const timeName = time ? parser.timeName() : null;
+  if (time && timeName !== null) {
+    const m = TIME_RE.exec(timeName);
+    const inName = (m?.[1] ?? m?.[2])?.toLowerCase() ?? null;
+    const inLine = units.get(timeName) ?? null;
+    if (inName && inLine && inName !== inLine) {
+      throw new InputError(source.name, parser.unitsLine, null, `the time column '${timeName}' is named in ${inName} but the units line gives ${inLine}`);
+    }
+    const fromFile = inName ?? inLine;
+    if (fromFile !== null && !(fromFile in UNIT_FACTORS.time)) {
+      throw new InputError(source.name, parser.unitsLine, null, `the time column's unit '${fromFile}' is not a time unit (${Object.keys(UNIT_FACTORS.time).join(', ')})`);
+    }
+    const given = opts.timeUnit;
+    if (fromFile !== null && given && given.unit !== fromFile) {
+      throw new UsageError(`${given.option} ${given.unit} contradicts ${source.name}, whose time column is in ${fromFile}`);
+    }
+    timeUnit = fromFile !== null ? { unit: fromFile, from: 'file' } : given ? { unit: given.unit, from: given.option } : { unit: 'ps', from: 'assumed' };
+    units.set(timeName, timeUnit.unit);
+    const factor = UNIT_FACTORS.time[timeUnit.unit]!;
+    timeQuantum = 10 ** -columnDecimals(time) * factor;
+    if (factor !== 1) for (let i = 0; i < time.length; i++) time[i] *= factor;
+  }
   return {
     path,
     format: 'table',
@@ -470,5 +571,8 @@ export async function readTable(path: string, opts: ReadTableOptions): Promise<T
     columns,
     rows: parser.rows,
     time,
+    units,
+    timeUnit,
+    timeQuantum,
   };
 }

@@ -39,7 +39,10 @@
 import { InputError } from '../src/errors.js';
 import type { Frame, Topology } from '../src/types.js';
 import { buildTopology, frameWanted, tooManyAtoms, truncatedLastFrame, type FrameSelection, type TrajectoryReadOptions } from './common.js';
-import { LineCursor, fastFloat, findNewline, latin1, parseNumberString, type FloatEnd, type LineHandler, type LineState } from './lines.js';
+import { LineCursor, fastFloat, findNewline, latin1, parseNumberString, utf8, type FloatEnd, type LineHandler, type LineState } from './lines.js';
+
+/** Decoder for labels: UTF-8, malformed bytes refused (WHATWG Encoding, TextDecoder fatal mode). */
+const STRICT_UTF8 = new TextDecoder('utf-8', { fatal: true });
 
 const ST_COUNT = 0;
 const ST_COMMENT = 1;
@@ -321,7 +324,7 @@ export class XyzParser implements LineHandler<Frame> {
       if (ch !== 10) break;
       if (first) {
         this.atom = atom;
-        this.recordLabel(buf, labS, labE);
+        this.recordLabel(buf, labS, labE, lineNo + 1, labS - pos + 1);
       }
       pos = p + 1;
       lineNo++;
@@ -490,7 +493,7 @@ export class XyzParser implements LineHandler<Frame> {
   private commentLine(buf: Uint8Array, start: number, end: number, lineNo: number): void {
     const first = this.nAtoms < 0;
     let pairs: Map<string, CommentValue> | null = null;
-    if (buf.subarray(start, end).indexOf(61) >= 0) pairs = parseCommentPairs(latin1(buf, start, end));
+    if (buf.subarray(start, end).indexOf(61) >= 0) pairs = parseCommentPairs(utf8(buf, start, end));
     // Time
     const t = pairs?.get('time');
     this.time = t ? parseNumberString(t.value, 'Time= value (ps)', this.file, lineNo, t.column) : null;
@@ -639,7 +642,7 @@ export class XyzParser implements LineHandler<Frame> {
     const len = e - s;
     const atom = this.atom;
     if (this.nAtoms < 0) {
-      this.recordLabel(buf, s, e);
+      this.recordLabel(buf, s, e, cur.lineNo, cur.column(s));
       return;
     }
     const o = this.labelOff[atom]!;
@@ -649,7 +652,7 @@ export class XyzParser implements LineHandler<Frame> {
     if (!same) {
       throw cur.error(
         s,
-        `atom ${atom + 1} of frame ${this.frameIndex + 1} is labelled '${latin1(buf, s, e)}', but '${this.labels[atom]}' in the first frame (every frame must list the same atoms in the same order)`,
+        `atom ${atom + 1} of frame ${this.frameIndex + 1} is labelled '${utf8(buf, s, e)}', but '${this.labels[atom]}' in the first frame (every frame must list the same atoms in the same order)`,
       );
     }
   }
@@ -674,8 +677,18 @@ export class XyzParser implements LineHandler<Frame> {
     this.cap = cap;
   }
 
-  /** First frame: remember the label of atom this.atom (bytes for comparisons, and text). */
-  private recordLabel(buf: Uint8Array, s: number, e: number): void {
+  /**
+   * First frame: remember the label of atom this.atom (bytes for comparisons, and text). Labels
+   * are UTF-8; bytes that are not UTF-8 text are an error at their line and column.
+   */
+  private recordLabel(buf: Uint8Array, s: number, e: number, lineNo: number, column: number): void {
+    let text: string;
+    try {
+      text = STRICT_UTF8.decode(buf.subarray(s, e));
+    } catch {
+      const hex = Array.from(buf.subarray(s, Math.min(e, s + 16)), (b) => b.toString(16).padStart(2, '0')).join(' ');
+      throw new InputError(this.file, lineNo, column, `the atom label is not UTF-8 text (bytes ${hex}${e - s > 16 ? ' …' : ''}); labels are read as UTF-8`);
+    }
     const len = e - s;
     if (this.labelLen + len > this.labelBytes.length) {
       const nb = new Uint8Array(Math.max(this.labelBytes.length * 2, this.labelLen + len));
@@ -685,7 +698,7 @@ export class XyzParser implements LineHandler<Frame> {
     this.labelBytes.set(buf.subarray(s, e), this.labelLen);
     this.labelLen += len;
     this.labelOff[this.atom + 1] = this.labelLen;
-    this.labels.push(latin1(buf, s, e));
+    this.labels.push(text);
   }
 
   private finishFrame(): Frame {

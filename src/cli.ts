@@ -12,6 +12,7 @@ import { readingContext, type CommandContext } from './commands/common.js';
 import { exitStatusFor, InputError, UsageError, AnalysisError } from './errors.js';
 import { VERSION } from './version.js';
 import { commitStagedFiles, discardStagedFiles, OutputWriteError } from './output.js';
+import { printable } from './printable.js';
 
 /**
  * Build the commander program with every registered command; `cc` says what the commands read
@@ -44,9 +45,9 @@ export async function main(argv: string[]): Promise<number> {
       return err.exitCode === 0 ? 0 : 2;
     }
     if (err instanceof InputError || err instanceof UsageError || err instanceof AnalysisError || err instanceof OutputWriteError) {
-      process.stderr.write(`sojourn: ${err instanceof UsageError ? 'usage error' : 'error'}: ${err.message}\n`);
+      process.stderr.write(`sojourn: ${err instanceof UsageError ? 'usage error' : 'error'}: ${printable(err.message)}\n`);
     } else {
-      process.stderr.write(`sojourn: internal error: ${err instanceof Error ? err.stack ?? err.message : String(err)}\n`);
+      process.stderr.write(`sojourn: internal error: ${printable(err instanceof Error ? err.stack ?? err.message : String(err))}\n`);
     }
     return exitStatusFor(err);
   }

@@ -268,3 +268,62 @@ function oneLetter(c: string): string {
   const canon = BY_UPPER.get(c.toUpperCase());
   return canon !== undefined && canon.length === 1 ? canon : 'X';
 }
+
+/** How an atom label was read as an element (see readLabel). */
+export type LabelReading =
+  /** The label is an element symbol, written exactly ("Na", "O", "Cl"; 'D' for deuterium). */
+  | { kind: 'symbol'; element: string }
+  /** The element was guessed from the label by elementFromLabel's rule ("OW" → O, "Sv" → S). */
+  | { kind: 'inferred'; element: string }
+  /** The label reads two ways ("CA": C or Ca); `element` is elementFromLabel's choice. */
+  | { kind: 'ambiguous'; element: string; readings: [string, string] }
+  /** No element can be read ("MW", "LP"): element 'X'. */
+  | { kind: 'unknown'; element: 'X' };
+
+/**
+ * How a label names an element, for saying where a mass came from:
+ *
+ * - 'symbol': the label is exactly an element symbol in its usual capitalisation (or 'D');
+ * - 'ambiguous': the label is two letters in one case ("CA", "co", "HG") that spell a
+ *   two-letter element (Z ≤ 103) while the first letter alone is another element: "CA" is
+ *   calcium or a carbon named "A" (the C-alpha of a protein), "HG" mercury or a hydrogen, "NA"
+ *   sodium or a nitrogen (as in haem). Nothing in the label decides; the caller must be told;
+ * - 'inferred': any other label from which elementFromLabel reads an element (a guess);
+ * - 'unknown': no element can be read.
+ *
+ * Rule of our own (common practice, no source: force fields name atoms by element plus
+ * letters for position or type, so an all-capital two-letter name has no single reading).
+ */
+export function readLabel(label: string): LabelReading {
+  const canon = normaliseElement(label);
+  if (canon !== null && canon === label) return { kind: 'symbol', element: canon };
+  const element = elementFromLabel(label);
+  if (/^([A-Z]{2}|[a-z]{2})$/.test(label)) {
+    const two = BY_UPPER.get(label.toUpperCase());
+    const one = oneLetter(label[0]!);
+    if (two !== undefined && two !== 'D' && (ATOMIC_NUMBER.get(two) ?? 999) <= MAX_Z_FOR_LABEL_MATCH && one !== 'X' && one !== two) {
+      return { kind: 'ambiguous', element, readings: [one, two] };
+    }
+  }
+  if (element === 'X') return { kind: 'unknown', element: 'X' };
+  return { kind: 'inferred', element };
+}
+
+/** English name of an element symbol, for messages ("S" → "sulfur"); the symbol itself when not listed. */
+export function elementName(symbol: string): string {
+  return ELEMENT_NAMES[symbol] ?? symbol;
+}
+
+/** Names (IUPAC spelling) of the elements most often met in liquids and salts; others print as symbols. */
+const ELEMENT_NAMES: Readonly<Record<string, string>> = {
+  H: 'hydrogen', D: 'deuterium', He: 'helium', Li: 'lithium', Be: 'beryllium', B: 'boron', C: 'carbon', N: 'nitrogen',
+  O: 'oxygen', F: 'fluorine', Ne: 'neon', Na: 'sodium', Mg: 'magnesium', Al: 'aluminium', Si: 'silicon', P: 'phosphorus',
+  S: 'sulfur', Cl: 'chlorine', Ar: 'argon', K: 'potassium', Ca: 'calcium', Cr: 'chromium', Mn: 'manganese', Fe: 'iron',
+  Co: 'cobalt', Ni: 'nickel', Cu: 'copper', Zn: 'zinc', Br: 'bromine', Kr: 'krypton', Rb: 'rubidium', Sr: 'strontium',
+  Ag: 'silver', Cd: 'cadmium', Sn: 'tin', I: 'iodine', Xe: 'xenon', Cs: 'caesium', Ba: 'barium', Ce: 'cerium',
+  Pt: 'platinum', Au: 'gold', Hg: 'mercury', Pb: 'lead', Os: 'osmium', Ho: 'holmium', Hf: 'hafnium', Se: 'selenium',
+  Sc: 'scandium', Sb: 'antimony', Sm: 'samarium', Pd: 'palladium', Nd: 'neodymium', Nb: 'niobium', Np: 'neptunium',
+  Pa: 'protactinium', Po: 'polonium', Pr: 'praseodymium', Pm: 'promethium', Pu: 'plutonium', Bi: 'bismuth', Bk: 'berkelium',
+  Cf: 'californium', Cm: 'curium', In: 'indium', Ir: 'iridium', Yb: 'ytterbium', Y: 'yttrium', W: 'tungsten', U: 'uranium', V: 'vanadium',
+  No: 'nobelium', Ti: 'titanium', Ga: 'gallium', Ge: 'germanium', As: 'arsenic', Te: 'tellurium', La: 'lanthanum',
+};

@@ -8,6 +8,7 @@ import { randomBytes } from 'node:crypto';
 import { UsageError } from './errors.js';
 import { cleanupOnAbort } from './abort.js';
 import type { Quantity } from './types.js';
+import type { AtomKind } from './masses.js';
 import { VERSION } from './version.js';
 
 /** Description of one input file in the JSON envelope. */
@@ -17,6 +18,17 @@ export interface InputRecord {
   bytes: number;
   format: string;
   frames: number | null;
+  /** Trajectories: per atom label, the element and mass used and where they came from (src/masses.ts). */
+  atomKinds?: AtomKind[];
+  /** The units the file's numbers were read in, and whether each was read, given or assumed. */
+  fileUnits?: Record<string, FileUnit>;
+}
+
+/** A unit of a file's numbers and where it came from. */
+export interface FileUnit {
+  unit: string;
+  /** 'file' (read from the file), an option name (given), or 'assumed'. */
+  from: string;
 }
 
 /** The one JSON object a command prints with --json. */

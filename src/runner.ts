@@ -2,8 +2,10 @@
  * The pass runner: reads a trajectory once and feeds every frame to every pass, so that all
  * analyses of a command share one read of the file.
  */
-import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Topology, Warnings } from './types.js';
+import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Warnings } from './types.js';
 import { InputError, UsageError } from './errors.js';
+import { applyElements, applyMasses } from './masses.js';
+import { decimalsOf, formatQuantum } from './precision.js';
 
 /**
  * A source of frames, as produced by readers/index.ts openTrajectory. Given a range, frames()
@@ -31,6 +33,12 @@ export interface RunOptions {
   warnings: Warnings;
   /** Masses (g/mol) by atom label that replace the element-based ones (e.g. united atoms). */
   masses?: Map<string, number>;
+  /** Elements by atom label that replace the ones read from the labels (--elements). */
+  elements?: Map<string, string>;
+  /** Factor from the file's time unit to ps (default 1: Time= in ps). */
+  timeFactor?: number;
+  /** Factor from the file's velocity unit to Å/ps (default 1). */
+  velocityFactor?: number;
   /** Called after each used frame with the number of frames used so far. */
   onFrame?: (used: number) => void;
 }
@@ -73,6 +81,12 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
   let prevTime: number | null = null;
   let fileInterval: number | null = null;
   let irregular = false;
+  // Spread of the intervals, and the rounding step of the times as written (ps).
+  let minDt = Infinity;
+  let maxDt = -Infinity;
+  let timeDecimals = 0;
+  const timeFactor = opts.timeFactor ?? 1;
+  const velocityFactor = opts.velocityFactor ?? 1;
   // Messages name the input as the readers do ('-' is standard input).
   const name = source.path === '-' ? '<stdin>' : source.path;
   // The range goes down to the reader, so that skipped frames are not parsed.
@@ -81,24 +95,34 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
     if (f.index >= range.to) break;
     if ((f.index - range.from) % range.stride !== 0) continue;
     if (f.cell === null && opts.cell !== null) f.cell = opts.cell;
+    if (velocityFactor !== 1 && f.velocities) {
+      const v = f.velocities;
+      for (let k = 0; k < v.length; k++) v[k] *= velocityFactor;
+    }
     if (f.time !== null) {
+      timeDecimals = Math.max(timeDecimals, decimalsOf(f.time));
+      if (timeFactor !== 1) f.time *= timeFactor;
       if (prevTime !== null) {
         const dt = f.time - prevTime;
         if (!(dt > 0)) {
           throw new InputError(name, f.line, null, `frame ${f.index + 1} has time ${f.time} ps, not after the previous frame's ${prevTime} ps`);
         }
+        if (dt < minDt) minDt = dt;
+        if (dt > maxDt) maxDt = dt;
         if (fileInterval === null) fileInterval = dt;
         else if (Math.abs(dt - fileInterval) > 1e-6 * Math.max(1, fileInterval) + 1e-9 * Math.abs(f.time)) irregular = true;
       } else firstTime = f.time;
       prevTime = f.time;
     }
     if (accs === null) {
+      if (opts.elements) applyElements(f.topology, opts.elements, name);
       if (opts.masses) applyMasses(f.topology, opts.masses, name);
       ctx = {
         topology: f.topology,
         firstCell: f.cell ? Float64Array.from(f.cell) : null,
         frameInterval: opts.frameInterval !== null ? opts.frameInterval * range.stride : null,
         warnings: opts.warnings,
+        file: name,
       };
       const c = ctx;
       accs = passes.map((p) => p.create(c));
@@ -113,7 +137,19 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
     throw new InputError(name, null, null, range.from > 0 ? `no frames in the range ${range.from}:${range.to === Infinity ? '' : range.to}` : 'no complete frames');
   }
   if (fileInterval !== null) {
-    if (irregular) opts.warnings.push(`${name}: frame times are not evenly spaced; the first interval (${fileInterval} ps) is used`);
+    if (irregular) {
+      // The times are written to `timeDecimals` decimals: a rounding step of 10^-decimals (ps after the unit factor).
+      const quantum = 10 ** -timeDecimals * timeFactor;
+      // Messages must not depend on where a thread's share of the frames starts (equal ones are kept once).
+      // Rounding to a step q moves an interval by at most q either way; it explains the spread only
+      // when q is small beside the interval (otherwise "0.2, 0.4, 0.5" would pass for rounding).
+      const rounded = 20 * quantum <= minDt && maxDt - minDt <= 2 * quantum * (1 + 1e-6) + 1e-9 * Math.abs(prevTime ?? 0);
+      opts.warnings.push(
+        rounded
+          ? `${name}: the frame times are rounded (to ${formatQuantum(quantum)} ps), so the time between frames varies within that rounding; the interval between the first two frames is used, uncertain by up to ${formatQuantum(quantum)} ps`
+          : `${name}: frame times are not evenly spaced (the spacing varies by more than the rounding of the times); the interval between the first two frames is used`,
+      );
+    }
     if (ctx.frameInterval !== null && Math.abs(ctx.frameInterval - fileInterval) > 1e-3 * fileInterval) {
       throw new UsageError(
         `--frame-interval gives ${ctx.frameInterval} ps between used frames but ${name} carries times ${fileInterval} ps apart`,
@@ -123,23 +159,6 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
   }
   void firstTime;
   return { ctx, partials: accs.map((a) => a.partial()), framesUsed: used, firstIndex, lastIndex };
-}
-
-/**
- * Replace the masses of atoms whose label is in `masses` (g/mol). A label that matches no atom is a
- * usage error, so a typo cannot silently leave the element mass in place.
- */
-export function applyMasses(topology: Topology, masses: Map<string, number>, path: string): void {
-  for (const [label, m] of masses) {
-    let hit = false;
-    for (let i = 0; i < topology.atoms; i++) {
-      if (topology.labels[i] === label) {
-        topology.masses[i] = m;
-        hit = true;
-      }
-    }
-    if (!hit) throw new UsageError(`--masses: no atom labelled "${label}" in ${path}`);
-  }
 }
 
 /** Finish every pass from its (merged) partial. */

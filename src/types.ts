@@ -36,6 +36,12 @@ export interface Topology {
   elements: string[];
   /** Atomic mass in g/mol (IUPAC standard atomic weights); NaN where unknown. */
   masses: Float64Array;
+  /**
+   * Where each atom's element and mass came from, as a code of src/masses.ts MASS_ORIGINS
+   * (element symbol, element column, --elements, --masses, guessed, ambiguous, none); absent
+   * when a topology was built by hand (then read from the labels on demand).
+   */
+  massFrom?: Uint8Array;
   /** Formal charge per atom in e, when the file gives charges; otherwise null. */
   charges: Float64Array | null;
   /** Residues/molecules when the file defines them; otherwise null. */
@@ -87,6 +93,8 @@ export interface PassContext {
   frameInterval: number | null;
   /** Append human-readable warnings here. */
   warnings: Warnings;
+  /** The input's name for messages ('<stdin>' for standard input), when known. */
+  file?: string;
 }
 
 /**

@@ -42,7 +42,8 @@ export type Dimension =
   | 'viscosity'
   | 'diffusion'
   | 'temperature'
-  | 'conductivity';
+  | 'conductivity'
+  | 'velocity';
 
 /** Internal unit of each dimension (what parseQuantity returns). */
 export const INTERNAL_UNIT: Record<Dimension, string> = {
@@ -54,6 +55,7 @@ export const INTERNAL_UNIT: Record<Dimension, string> = {
   diffusion: 'm^2/s',
   temperature: 'K',
   conductivity: 'S/m',
+  velocity: 'A/ps',
 };
 
 /** Factor that converts one of each accepted unit into the internal unit of its dimension. */
@@ -66,6 +68,8 @@ export const UNIT_FACTORS: Record<Dimension, Record<string, number>> = {
   diffusion: { 'm^2/s': 1, 'cm^2/s': 1e-4, 'A^2/ps': A2_PER_PS, 'Å^2/ps': A2_PER_PS },
   temperature: { K: 1 },
   conductivity: { 'S/m': 1, 'mS/cm': 0.1, 'S/cm': 100 },
+  // 1 Å/fs = 1000 Å/ps; 1 nm/ps = 10 Å/ps; 1 m/s = 10¹⁰ Å / 10¹² ps = 0.01 Å/ps.
+  velocity: { 'A/ps': 1, 'Å/ps': 1, 'A/fs': 1000, 'Å/fs': 1000, 'nm/ps': 10, 'm/s': 0.01 },
 };
 
 const NUMBER_PREFIX = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$/;

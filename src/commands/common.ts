@@ -6,7 +6,9 @@
 import { Command, Option } from 'commander';
 import cliProgress from 'cli-progress';
 import { parseFrameRange } from '../runner.js';
-import { parseQuantity } from '../units.js';
+import { parseQuantity, UNIT_FACTORS } from '../units.js';
+import { parseElements } from '../masses.js';
+import { printable } from '../printable.js';
 import { cellFromParameters, orthorhombicCell } from '../cell.js';
 import { UsageError } from '../errors.js';
 import { checkOutputFile, envelope, toJson, type InputRecord } from '../output.js';
@@ -27,6 +29,11 @@ export interface TrajectoryOptions {
   partialOut?: string;
   threads?: string;
   masses?: string;
+  elements?: string;
+  timeUnit?: string;
+  velocityUnit?: string;
+  /** A command's --temperature, when it has one: checked against the velocities' kinetic temperature. */
+  temperature?: string;
 }
 
 /** Add --json and --quiet. */
@@ -44,7 +51,10 @@ export function addTrajectoryOptions(cmd: Command): Command {
     .option('--box <lengths>', 'periodic cell for files that carry none: "a,b,c" (Å) or "a,b,c,alpha,beta,gamma" (Å, degrees); units allowed, e.g. "3nm,3nm,3nm"')
     .option('--frames <from:to[:stride]>', 'use frames FROM..TO-1 (0-based) with a stride')
     .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs')
-    .option('--masses <pairs>', 'masses by atom label in g/mol, for labels that are not element symbols, e.g. "Sv=18,CH3=15.035"')
+    .option('--masses <pairs>', 'masses by atom label in g/mol, for labels that are not element symbols, e.g. "Sv=18,CH3=15.035" (0 for a massless site)')
+    .option('--elements <pairs>', 'elements by atom label, for labels that are not element symbols or read two ways, e.g. "CA=C,OW=O" (masses: standard atomic weights)')
+    .addOption(new Option('--time-unit <unit>', 'unit of the frame times in the file (default ps)').choices(Object.keys(UNIT_FACTORS.time)))
+    .addOption(new Option('--velocity-unit <unit>', 'unit of the velocities in the file (default Å/ps)').choices(Object.keys(UNIT_FACTORS.velocity)))
     .option('--partial-out <file>', 'also write this run\'s partial results (for `sojourn merge` of jobs over frame ranges)')
     .option('--threads <n>', 'threads that share the frames, this one included (default: number of cores for plain files, 1 for gzipped ones; 1 = no workers)');
   return addOutputOptions(cmd);
@@ -69,8 +79,9 @@ export function parseMasses(text: string | undefined): Map<string, number> | und
   const m = new Map<string, number>();
   for (const part of text.split(',')) {
     const i = part.lastIndexOf('=');
-    const value = Number(part.slice(i + 1));
-    if (i <= 0 || !(value > 0)) throw new UsageError(`--masses: expected LABEL=MASS pairs (g/mol) separated by commas, got "${part}"`);
+    const text = part.slice(i + 1).trim();
+    const value = text === '' ? NaN : Number(text);
+    if (i <= 0 || !(value >= 0) || !Number.isFinite(value)) throw new UsageError(`--masses: expected LABEL=MASS pairs (g/mol, 0 for a massless site) separated by commas, got "${part}"`);
     m.set(part.slice(0, i).trim(), value);
   }
   return m;
@@ -116,6 +127,16 @@ export function progressFor(label: string, quiet: boolean | undefined): { tick: 
 /** The read description of a trajectory command's options (src/engine/read.ts). */
 export function readSpecOf(file: string, opts: TrajectoryOptions): ReadSpec {
   const masses = parseMasses(opts.masses);
+  const elements = parseElements(opts.elements);
+  // The command checks its own --temperature; here it only serves the kinetic-temperature check.
+  let temperature: number | null = null;
+  if (typeof opts.temperature === 'string') {
+    try {
+      temperature = parseQuantity(opts.temperature, 'temperature', '--temperature', 'K');
+    } catch {
+      temperature = null;
+    }
+  }
   return {
     file,
     ...(opts.format ? { format: opts.format } : {}),
@@ -124,6 +145,10 @@ export function readSpecOf(file: string, opts: TrajectoryOptions): ReadSpec {
     frameInterval: parsePositiveTime(opts.frameInterval, '--frame-interval'),
     ...(opts.frames ? { range: parseFrameRange(opts.frames) } : {}),
     ...(masses ? { masses: [...masses] } : {}),
+    ...(elements ? { elements: [...elements] } : {}),
+    ...(opts.timeUnit ? { timeUnit: opts.timeUnit, timeUnitGiven: true } : {}),
+    ...(opts.velocityUnit ? { velocityUnit: opts.velocityUnit, velocityUnitGiven: true } : {}),
+    ...(temperature !== null && temperature > 0 ? { temperature } : {}),
   };
 }
 
@@ -169,7 +194,7 @@ export async function runOnTrajectory(
 /** Print warnings to stderr (unless quiet). */
 export function printWarnings(warnings: Warnings, quiet?: boolean): void {
   if (quiet) return;
-  for (const w of warnings) process.stderr.write(`sojourn: warning: ${w}\n`);
+  for (const w of warnings) process.stderr.write(`sojourn: warning: ${printable(w)}\n`);
 }
 
 /**
@@ -188,7 +213,7 @@ export function emit(
   if (opts.json) {
     process.stdout.write(toJson(envelope(command, inputs, options, results, warnings)) + '\n');
   } else {
-    process.stdout.write(human() + '\n');
+    process.stdout.write(printable(human()) + '\n');
     printWarnings(warnings, opts.quiet);
   }
 }

@@ -14,6 +14,7 @@ import { addTrajectoryOptions, emit, parsePositiveTime, runOnTrajectory, type Tr
 import { finishPasses } from '../runner.js';
 import { formatSig, formatTable, formatValue, type InputRecord } from '../output.js';
 import { UsageError, InputError } from '../errors.js';
+import { columnUnit, tableInput } from '../tables.js';
 
 interface ConvergeOptions extends TrajectoryOptions {
   column?: string[];
@@ -31,14 +32,20 @@ export function parseTarget(text: string | undefined): SeriesOptions['target'] {
   return m[2] === '%' ? { relative: Number(m[1]) / 100 } : { absolute: Number(m[1]) };
 }
 
-/** Time step between rows from a time column: must be (nearly) uniform. */
-export function uniformStep(time: Float64Array, file: string): number {
+/**
+ * Time step between rows from a time column: the mean step (t_last − t_first)/(n − 1), which
+ * every step must match to 0.1 %, or to the rounding of the times as written (`quantum`, the
+ * step of their last decimal: rounding moves a step by up to one quantum, when the quantum is at
+ * most 1/20 of the step).
+ */
+export function uniformStep(time: Float64Array, file: string, quantum = 0): number {
   const n = time.length;
   if (n < 2) throw new InputError(file, null, null, 'a time column with fewer than two rows gives no sample interval');
   const dt = (time[n - 1] - time[0]) / (n - 1);
+  const rounding = 20 * quantum <= dt ? quantum * (1 + 1e-6) : 0;
   for (let i = 1; i < n; i++) {
     const d = time[i] - time[i - 1];
-    if (Math.abs(d - dt) > 1e-3 * dt + 1e-9 * Math.abs(time[i])) {
+    if (Math.abs(d - dt) > Math.max(1e-3 * dt, rounding) + 1e-9 * Math.abs(time[i])) {
       throw new InputError(file, null, null, `time column is not evenly spaced (rows ${i} and ${i + 1} are ${d} ps apart, the mean spacing is ${dt} ps); resample the table first`);
     }
   }
@@ -101,20 +108,20 @@ export function register(program: Command, cc: CommandContext): void {
       if (series.length === 0) throw new UsageError(`${file} has no cell, so no per-frame volume or density to analyse; give a table of energies instead`);
       input = run.input;
     } else {
-      const table = await readTable(file, { columns: opts.column, warnings });
+      const table = await readTable(file, { columns: opts.column, warnings, ...(opts.timeUnit ? { timeUnit: { unit: opts.timeUnit, option: '--time-unit' } } : {}) });
       let dt = parsePositiveTime(opts.sampleInterval, '--sample-interval');
       if (table.time) {
-        const fileDt = uniformStep(table.time, file);
+        const fileDt = uniformStep(table.time, file, table.timeQuantum);
         if (dt !== null && Math.abs(dt - fileDt) > 1e-3 * fileDt) {
-          throw new UsageError(`--sample-interval ${dt} ps disagrees with the table's time column (${fileDt} ps)`);
+          throw new UsageError(`--sample-interval ${dt} ps disagrees with the time column of ${file} (${fileDt} ps)`);
         }
         dt = fileDt;
       }
       for (const [name, values] of table.columns) {
         if (values === table.time) continue;
-        series.push(analyseSeries(name, values, { dt, unit: units.get(name) ?? '', target, minEffective }));
+        series.push(analyseSeries(name, values, { dt, unit: columnUnit(table, name, units.get(name), '--units'), target, minEffective }));
       }
-      input = { path: file, sha256: table.sha256, bytes: table.bytes, format: 'table', frames: table.rows };
+      input = tableInput(table);
     }
     const results = { series };
     emit('converge', opts, [input], { ...opts }, results, warnings, () => renderSeries(series));

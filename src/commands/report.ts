@@ -69,7 +69,9 @@ import { uniformStep } from './converge.js';
 import { pickStressColumns } from './viscosity.js';
 import { parseQuantity, UNIT_FACTORS } from '../units.js';
 import { AnalysisError, UsageError } from '../errors.js';
-import { refuseOverwritingInputs, toJson, type InputRecord } from '../output.js';
+import { refuseOverwritingInputs, toJson, type FileUnit, type InputRecord } from '../output.js';
+import { columnUnit, pressureUnitOf, tableInput } from '../tables.js';
+import { printable } from '../printable.js';
 import { VERSION } from '../version.js';
 import type { Pass, PassContext } from '../types.js';
 import type { Boundary } from '../transport.js';
@@ -85,7 +87,8 @@ interface ReportCliOptions extends TrajectoryOptions {
   pressure?: string;
   energy?: string;
   charges?: string;
-  pressureUnit: string;
+  pressureUnit?: string;
+  tableTimeUnit?: string;
   pressureColumns?: string;
   pressureInterval?: string;
   energyInterval?: string;
@@ -144,7 +147,7 @@ function attempt<T>(what: string, skipped: Record<string, string>, f: () => T): 
 /** Sample interval of a table: its time column (evenly spaced), or the option, or null. */
 function tableInterval(table: TableData, given: number | null, option: string): number | null {
   if (!table.time) return given;
-  const dt = uniformStep(table.time, table.path);
+  const dt = uniformStep(table.time, table.path, table.timeQuantum);
   if (given !== null && Math.abs(given - dt) > 1e-3 * dt) throw new UsageError(`${option} ${given} ps disagrees with the time column of ${table.path} (${dt} ps)`);
   return dt;
 }
@@ -302,7 +305,8 @@ export function register(program: Command, cc: CommandContext): void {
     .option('--pressure <table>', 'pressure-tensor table (columns pxy, pxz, pyz[, pxx, pyy, pzz] and time): viscosity and column convergence')
     .option('--energy <table>', 'table of energies or other observables over time: convergence of every column')
     .option('--charges <list>', 'charges by selection, e.g. "Na=+1,Cl=-1" (default: the formal charges in the file, if any)')
-    .addOption(new Option('--pressure-unit <unit>', 'unit of the pressure columns').choices(Object.keys(UNIT_FACTORS.pressure)).default('bar'))
+    .addOption(new Option('--pressure-unit <unit>', 'unit of the pressure columns (default: the table\'s units line, else bar)').choices(Object.keys(UNIT_FACTORS.pressure)))
+    .addOption(new Option('--table-time-unit <unit>', 'unit of the time column of --pressure and --energy when the tables do not say (default ps)').choices(Object.keys(UNIT_FACTORS.time)))
     .option('--pressure-columns <names>', 'pressure columns as xy,xz,yz or xy,xz,yz,xx,yy,zz (default: recognised by name)')
     .option('--pressure-interval <time>', 'time between pressure rows when the table has no time column, e.g. 4fs')
     .option('--energy-interval <time>', 'time between energy rows when the table has no time column')
@@ -327,9 +331,35 @@ export function register(program: Command, cc: CommandContext): void {
     const energyUnits = parseColumnUnits(opts.energyUnits);
     const pressureInterval = parsePositiveTime(opts.pressureInterval, '--pressure-interval');
     const energyInterval = parsePositiveTime(opts.energyInterval, '--energy-interval');
-    const pascalPerUnit = UNIT_FACTORS.pressure[opts.pressureUnit];
     const inputPaths = [file, ...(opts.pressure ? [opts.pressure] : []), ...(opts.energy ? [opts.energy] : [])];
     refuseInputsInside(opts.out, inputPaths);
+    // The tables are read and checked before the trajectory, so that a bad table fails at once.
+    const tableTimeUnit = opts.tableTimeUnit ? { timeUnit: { unit: opts.tableTimeUnit, option: '--table-time-unit' } } : {};
+    let pressureTable: { table: TableData; dt: number; map: ReturnType<typeof pickStressColumns>; cols: StressColumns; unit: FileUnit } | null = null;
+    if (opts.pressure) {
+      const table = await readTable(opts.pressure, { warnings, ...tableTimeUnit });
+      const dt = tableInterval(table, pressureInterval, '--pressure-interval');
+      if (dt === null) throw new UsageError(`${opts.pressure} has no time column: give --pressure-interval (e.g. 4fs)`);
+      const map = pickStressColumns(table.names, opts.pressureColumns);
+      const cols: StressColumns = {};
+      for (const [k, name] of map) {
+        const v = table.columns.get(name);
+        if (!v) throw new UsageError(`${opts.pressure}: no column named '${name}'; available columns: ${table.names.join(', ')}`);
+        cols[k] = v;
+      }
+      pressureTable = { table, dt, map, cols, unit: pressureUnitOf(table, [...map.values()], opts.pressureUnit) };
+    }
+    let energyTable: { table: TableData; dt: number | null; units: Map<string, string> } | null = null;
+    if (opts.energy) {
+      const table = await readTable(opts.energy, { warnings, ...tableTimeUnit });
+      const dt = tableInterval(table, energyInterval, '--energy-interval');
+      for (const name of energyUnits.keys()) {
+        if (!table.columns.has(name)) throw new UsageError(`--energy-units: ${opts.energy} has no column '${name}'; columns: ${table.names.join(', ')}`);
+      }
+      const units = new Map<string, string>();
+      for (const name of table.columns.keys()) units.set(name, columnUnit(table, name, energyUnits.get(name), '--energy-units'));
+      energyTable = { table, dt, units };
+    }
     // The store holds every atom: positions, and velocities when the file has them; per frame the
     // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
     const layoutSpec = speciesSpec({});
@@ -444,46 +474,36 @@ export function register(program: Command, cc: CommandContext): void {
       // Tables.
       const inputs: InputRecord[] = [run.input];
       let viscosity: ReportData['viscosity'] = null;
-      if (opts.pressure) {
-        const table = await readTable(opts.pressure, { warnings });
-        inputs.push({ path: opts.pressure, sha256: table.sha256, bytes: table.bytes, format: 'table', frames: table.rows });
-        const dt = tableInterval(table, pressureInterval, '--pressure-interval');
+      if (pressureTable) {
+        const { table, dt, map, cols, unit } = pressureTable;
+        const pascalPerUnit = UNIT_FACTORS.pressure[unit.unit]!;
+        inputs.push(tableInput(table, { pressure: unit }));
         for (const [name, values] of table.columns) {
           if (values === table.time) continue;
-          const r = attempt(`convergence of ${name} (pressure table)`, skipped, () => analyseSeries(name, values, { dt, unit: opts.pressureUnit }));
+          const u = [...map.values()].includes(name) ? unit.unit : columnUnit(table, name, undefined, '--pressure-unit');
+          const r = attempt(`convergence of ${name} (pressure table)`, skipped, () => analyseSeries(name, values, { dt, unit: u }));
           if (r) series.push({ source: 'pressure table', report: r, dt });
         }
         const volumeA3 = overview.meanVolume?.value ?? null;
-        if (dt === null) throw new UsageError(`${opts.pressure} has no time column: give --pressure-interval (e.g. 4fs)`);
         if (volumeA3 === null) skipped.viscosity = 'the trajectory has no periodic cell, so no volume for the Green–Kubo viscosity: give --box';
         else {
-          if (overview.cellVaries) warnings.push(`the cell volume varies; the viscosity uses its mean (${volumeA3.toPrecision(7)} Å³)`);
-          const map = pickStressColumns(table.names, opts.pressureColumns);
-          const cols: StressColumns = {};
-          for (const [k, name] of map) {
-            const v = table.columns.get(name);
-            if (!v) throw new UsageError(`${opts.pressure}: no column named '${name}'; available columns: ${table.names.join(', ')}`);
-            cols[k] = v;
-          }
+          if (overview.cellVaries) warnings.push(`${file}: the cell volume varies; the viscosity uses its mean (${volumeA3.toPrecision(7)} Å³)`);
           const analysis = attempt('viscosity', skipped, () =>
             analyseViscosity({ components: shearComponents(cols, false), dt, volumeA3, temperatureK, pascalPerUnit }),
           );
           if (analysis) {
             if (!analysis.result.converged) warnings.push(`viscosity not converged: ${analysis.result.reasons.join('; ')}`);
-            viscosity = { result: analysis.result, volumeA3, pressureUnit: opts.pressureUnit, columns: Object.fromEntries(map) };
+            viscosity = { result: analysis.result, volumeA3, pressureUnit: unit.unit, columns: Object.fromEntries(map) };
           }
         }
       }
-      if (opts.energy) {
-        const table = await readTable(opts.energy, { warnings });
-        inputs.push({ path: opts.energy, sha256: table.sha256, bytes: table.bytes, format: 'table', frames: table.rows });
-        const dt = tableInterval(table, energyInterval, '--energy-interval');
-        for (const name of energyUnits.keys()) {
-          if (!table.columns.has(name)) throw new UsageError(`--energy-units: ${opts.energy} has no column '${name}'; columns: ${table.names.join(', ')}`);
-        }
+      if (energyTable) {
+        const { table, dt, units } = energyTable;
+        const given = [...units].filter(([n, u]) => u !== '' && table.columns.get(n) !== table.time);
+        inputs.push(tableInput(table, Object.fromEntries(given.map(([n, u]) => [n, { unit: u, from: energyUnits.has(n) ? '--energy-units' : 'file' }]))));
         for (const [name, values] of table.columns) {
           if (values === table.time) continue;
-          const r = attempt(`convergence of ${name} (energy table)`, skipped, () => analyseSeries(name, values, { dt, unit: energyUnits.get(name) ?? '' }));
+          const r = attempt(`convergence of ${name} (energy table)`, skipped, () => analyseSeries(name, values, { dt, unit: units.get(name) ?? '' }));
           if (r) series.push({ source: 'energy table', report: r, dt });
         }
       }
@@ -520,7 +540,7 @@ export function register(program: Command, cc: CommandContext): void {
       }
       if (opts.json) process.stdout.write(toJson(built.document) + '\n');
       else {
-        process.stdout.write(renderTerminalSummary(built.summary, path.join(opts.out, 'report.html'), warnings.length) + '\n');
+        process.stdout.write(printable(renderTerminalSummary(built.summary, path.join(opts.out, 'report.html'), warnings.length)) + '\n');
         if (memoryNote) process.stdout.write(`memory: ${memoryNote}\n`);
         printWarnings(warnings, opts.quiet);
       }

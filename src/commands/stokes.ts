@@ -3,6 +3,7 @@
  * and the solvent viscosity (or the reverse), compared with its Shannon crystal radius, plus the
  * Walden product when a molar conductivity is given.
  */
+import { lowTemperatureWarning } from '../checks.js';
 import type { CommandContext } from './common.js';
 import { Option, type Command } from 'commander';
 import { addOutputOptions, emit } from './common.js';
@@ -120,6 +121,8 @@ export function register(program: Command, cc: CommandContext): void {
     const warnings: string[] = [];
     if ((opts.diffusion === undefined) === (opts.radius === undefined)) throw new UsageError('give exactly one of --diffusion and --radius');
     const temperatureK = parseQuantity(opts.temperature, 'temperature', '--temperature', 'K');
+    const lowT = lowTemperatureWarning(temperatureK);
+    if (lowT) warnings.push(lowT);
     const viscosity = uncertainQuantity(opts.viscosity, 'viscosity', '--viscosity', 'Pa s');
     const diffusion = opts.diffusion !== undefined ? uncertainQuantity(opts.diffusion, 'diffusion', '--diffusion', 'm^2/s') : null;
     const radius = opts.radius !== undefined ? uncertainQuantity(opts.radius, 'length', '--radius', 'A') : null;

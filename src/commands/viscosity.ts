@@ -3,11 +3,13 @@
  * (time decomposition, Daivis–Evans component averaging) with an Einstein–Helfand cross-check.
  */
 import { makePass } from '../../analyses/index.js';
-import type { OverviewPartial } from '../../analyses/overview.js';
+import type { FramewisePartial } from '../../analyses/framewise.js';
 import { readingContext, type CommandContext } from './common.js';
 import { Option, type Command } from 'commander';
 import { readTable, type TableData } from '../../readers/index.js';
-import { overviewPass, type OverviewResult } from '../../analyses/overview.js';
+import type { framewiseObservables } from '../../analyses/framewise.js';
+import { pressureUnitOf, tableInput } from '../tables.js';
+import { lowTemperatureWarning } from '../checks.js';
 import {
   analyseViscosity,
   shearComponents,
@@ -28,7 +30,8 @@ interface ViscosityOptions {
   temperature: string;
   volume?: string;
   cellFrom?: string;
-  pressureUnit: string;
+  pressureUnit?: string;
+  timeUnit?: string;
   columns?: string;
   sampleInterval?: string;
   segments?: string;
@@ -93,13 +96,15 @@ function stressColumns(table: TableData, map: Map<TensorKey, string>): StressCol
   return cols;
 }
 
-/** Mean cell volume (Å³) of a trajectory, through the overview pass. */
+/** Mean cell volume (Å³) of a trajectory, from the per-frame volumes (no masses needed). */
 async function volumeFromTrajectory(file: string, warnings: string[], quiet?: boolean): Promise<{ volume: number; input: InputRecord; varies: boolean }> {
-  const pass = makePass<typeof overviewPass>('overview');
+  const pass = makePass<typeof framewiseObservables>('framewise');
   const run = await runOnTrajectory(file, { quiet, threads: '1' }, [pass], warnings, readingContext([]));
-  const ov = pass.finish(run.partials[0] as OverviewPartial, run.ctx);
-  if (!ov.meanVolume) throw new UsageError(`--cell-from ${file}: the trajectory has no periodic cell; give --volume instead`);
-  return { volume: ov.meanVolume.value, input: run.input, varies: ov.cellVaries };
+  const volumes = pass.finish(run.partials[0] as FramewisePartial, run.ctx).volume;
+  if (!volumes || volumes.some((v) => !Number.isFinite(v))) throw new UsageError(`--cell-from ${file}: the trajectory has no periodic cell; give --volume instead`);
+  let sum = 0;
+  for (const v of volumes) sum += v;
+  return { volume: sum / volumes.length, input: run.input, varies: volumes.some((v) => Math.abs(v - volumes[0]!) > 1e-9 * volumes[0]!) };
 }
 
 const mPas = (q: Quantity | null) => formatQuantity(q, 1e3, 'mPa·s');
@@ -167,7 +172,8 @@ export function register(program: Command, cc: CommandContext): void {
     .requiredOption('--temperature <T>', 'temperature of the run, e.g. 300K')
     .option('--volume <V>', 'system volume, e.g. 27nm^3 or 27000A^3')
     .option('--cell-from <trajectory>', 'take the mean cell volume from this trajectory instead of --volume')
-    .addOption(new Option('--pressure-unit <unit>', 'unit of the pressure columns').choices(Object.keys(UNIT_FACTORS.pressure)).default('bar'))
+    .addOption(new Option('--pressure-unit <unit>', 'unit of the pressure columns (default: the table\'s units line, else bar)').choices(Object.keys(UNIT_FACTORS.pressure)))
+    .addOption(new Option('--time-unit <unit>', 'unit of the table\'s time column when the table does not say (default ps)').choices(Object.keys(UNIT_FACTORS.time)))
     .option('--columns <names>', 'pressure columns as xy,xz,yz or xy,xz,yz,xx,yy,zz (default: recognised by name, e.g. pxy, p_xy, Pxy)')
     .option('--sample-interval <time>', 'time between rows when the table has no time column, e.g. 2fs')
     .option('--segments <n>', 'number of independent segments for the time decomposition (default: up to 10, each ≥ 200 stress correlation times when possible)')
@@ -176,6 +182,8 @@ export function register(program: Command, cc: CommandContext): void {
     const warnings: string[] = [];
     const temperatureK = parseQuantity(opts.temperature, 'temperature', '--temperature', 'K');
     if (!(temperatureK > 0)) throw new UsageError(`--temperature must be positive, got "${opts.temperature}"`);
+    const lowT = lowTemperatureWarning(temperatureK);
+    if (lowT) warnings.push(lowT);
     if ((opts.volume === undefined) === (opts.cellFrom === undefined)) {
       throw new UsageError('give exactly one of --volume and --cell-from');
     }
@@ -183,37 +191,44 @@ export function register(program: Command, cc: CommandContext): void {
     if (segments !== undefined && !(Number.isInteger(segments) && segments >= 3)) {
       throw new UsageError(`--segments must be an integer ≥ 3, got "${opts.segments}"`);
     }
-    const pascalPerUnit = UNIT_FACTORS.pressure[opts.pressureUnit];
     if (opts.csv) checkOutputFile(opts.csv, [file, ...(opts.cellFrom ? [opts.cellFrom] : [])], '--csv');
     let dt = parsePositiveTime(opts.sampleInterval, '--sample-interval');
     const inputs: InputRecord[] = [];
-    let volumeA3: number;
+    let volumeA3 = NaN;
     if (opts.volume !== undefined) {
       volumeA3 = parseQuantity(opts.volume, 'volume', '--volume');
       if (!(volumeA3 > 0)) throw new UsageError(`--volume must be positive, got "${opts.volume}"`);
-    } else {
-      const v = await volumeFromTrajectory(opts.cellFrom!, warnings, opts.quiet);
-      volumeA3 = v.volume;
-      inputs.push(v.input);
-      if (v.varies) warnings.push(`${opts.cellFrom}: the cell volume varies; its mean (${formatSig(volumeA3, 6)} Å³) is used`);
     }
-    let table: TableData | null = await readTable(file, { columns: opts.columns?.split(',').map((s) => s.trim()).filter(Boolean), warnings });
-    inputs.unshift({ path: file, sha256: table.sha256, bytes: table.bytes, format: 'table', frames: table.rows });
+    let table: TableData | null = await readTable(file, {
+      columns: opts.columns?.split(',').map((s) => s.trim()).filter(Boolean),
+      warnings,
+      ...(opts.timeUnit ? { timeUnit: { unit: opts.timeUnit, option: '--time-unit' } } : {}),
+    });
     if (table.time) {
-      const fileDt = uniformStep(table.time, file);
+      const fileDt = uniformStep(table.time, file, table.timeQuantum);
       if (dt !== null && Math.abs(dt - fileDt) > 1e-3 * fileDt) {
-        throw new UsageError(`--sample-interval ${dt} ps disagrees with the table's time column (${fileDt} ps)`);
+        throw new UsageError(`--sample-interval ${dt} ps disagrees with the time column of ${file} (${fileDt} ps)`);
       }
       dt = fileDt;
     }
     if (dt === null) throw new UsageError(`${file} has no time column; give --sample-interval (e.g. 2fs)`);
     const map = pickStressColumns(table.names, opts.columns);
+    const pressureUnit = pressureUnitOf(table, [...map.values()], opts.pressureUnit);
+    const pascalPerUnit = UNIT_FACTORS.pressure[pressureUnit.unit]!;
+    inputs.unshift(tableInput(table, { pressure: pressureUnit }));
     const cols = stressColumns(table, map);
+    if (table.rows < 200) throw new InputError(file, null, null, `only ${table.rows} rows: far too few for a viscosity`);
+    // The table is read and checked first: a bad table fails before the trajectory is read.
+    if (opts.cellFrom !== undefined) {
+      const v = await volumeFromTrajectory(opts.cellFrom, warnings, opts.quiet);
+      volumeA3 = v.volume;
+      inputs.push(v.input);
+      if (v.varies) warnings.push(`${opts.cellFrom}: the cell volume varies; its mean (${formatSig(volumeA3, 6)} Å³) is used`);
+    }
     const rows = table.rows;
     // The table's arrays are ours: centre the off-diagonal ones in place, then let the table go.
     const components = shearComponents(cols, true);
     table = null;
-    if (rows < 200) throw new InputError(file, null, null, `only ${rows} rows: far too few for a viscosity`);
     const analysis = analyseViscosity({ components, dt, volumeA3, temperatureK, pascalPerUnit, segments });
     const r = analysis.result;
     if (!r.converged) warnings.push(`viscosity not converged: ${r.reasons.join('; ')}`);
@@ -222,7 +237,7 @@ export function register(program: Command, cc: CommandContext): void {
       ...r,
       temperature: quantity(temperatureK, null, 'K'),
       volume: quantity(volumeA3, null, 'A^3'),
-      pressureUnit: opts.pressureUnit,
+      pressureUnit: pressureUnit.unit,
       columns: Object.fromEntries(map),
     };
     emit('viscosity', opts, inputs, { ...opts }, results, warnings, () => renderViscosity(file, r, volumeA3, temperatureK));

@@ -11,7 +11,10 @@ import { decodePartial, decodeTopology, encodePartial, encodeTopology, type Part
 import { VERSION } from '../version.js';
 import { readShare, type ReadSpec, type TrajectoryRun } from './read.js';
 import { readOnThreads } from './threads.js';
-import { recipeOf } from './recipes.js';
+import { recipeOf, withRecipe } from './recipes.js';
+import { checksPass, judgeChecks, type ChecksPartial } from '../checks.js';
+import { atomKinds } from '../masses.js';
+import type { FileUnit } from '../output.js';
 import { readFile } from 'node:fs/promises';
 
 /** Where the partials come from: a read of the file, or partial-result files to merge. */
@@ -29,20 +32,61 @@ export interface ExecutePlan {
   onDone?: () => void;
 }
 
-/** Run `passes` over the trajectory `spec` according to `plan`. */
-export async function execute(passes: Pass[], spec: ReadSpec, plan: ExecutePlan, warnings: Warnings): Promise<TrajectoryRun> {
-  if (plan.source.kind === 'partials') return mergePartialFiles(spec.file, plan.source.docs, passes, warnings);
-  const local = (range: ReadSpec['range'], share: Parameters<typeof readShare>[3]['plan']) => readShare(spec, passes, [], { range, plan: share });
-  let run = await readOnThreads(spec, passes, warnings, plan.threads, local);
-  if (!run) {
-    try {
-      run = await readShare(spec, passes, warnings, { range: spec.range, plan: null, ...(plan.onFrame ? { onFrame: plan.onFrame } : {}) });
-    } finally {
+/**
+ * Run `passes` over the trajectory `spec` according to `plan`. Every read also runs the
+ * plausibility checks (src/checks.ts) as a last pass: its verdicts are warnings, or an error
+ * before any result is finished; the run records what it found (`checks`) and, in its input
+ * record, the atoms' masses with their origin and the units the file was read in.
+ */
+export async function execute(commandPasses: Pass[], spec: ReadSpec, plan: ExecutePlan, warnings: Warnings): Promise<TrajectoryRun> {
+  const passes = [...commandPasses, withRecipe(checksPass, { kind: 'checks', options: null })];
+  let run: TrajectoryRun;
+  if (plan.source.kind === 'partials') run = mergePartialFiles(spec.file, plan.source.docs, passes, warnings);
+  else {
+    const local = (range: ReadSpec['range'], share: Parameters<typeof readShare>[3]['plan']) => readShare(spec, passes, [], { range, plan: share });
+    const threaded = await readOnThreads(spec, passes, warnings, plan.threads, local);
+    if (!threaded) {
+      try {
+        run = await readShare(spec, passes, warnings, { range: spec.range, plan: null, ...(plan.onFrame ? { onFrame: plan.onFrame } : {}) });
+      } finally {
+        plan.onDone?.();
+      }
+    } else {
+      run = threaded;
       plan.onDone?.();
     }
-  } else plan.onDone?.();
-  if (plan.partialOut) await writePartialFile(plan.partialOut, run, passes, warnings);
-  return run;
+    if (plan.partialOut) await writePartialFile(plan.partialOut, run, passes, warnings);
+  }
+  return judged(run, spec, warnings);
+}
+
+/** The run without the checks' partial, judged (src/checks.ts judgeChecks), its input record completed. */
+function judged(run: TrajectoryRun, spec: ReadSpec, warnings: Warnings): TrajectoryRun {
+  const name = spec.file === '-' ? '<stdin>' : spec.file;
+  const partials = run.partials.slice(0, -1);
+  run.ctx.file ??= name;
+  const checks = checksPass.finish(run.partials[run.partials.length - 1] as ChecksPartial, run.ctx);
+  const timeUnit = spec.timeUnit ?? 'ps';
+  const velocityUnit = spec.velocityUnit ?? 'A/ps';
+  judgeChecks(
+    checks,
+    {
+      file: name,
+      temperature: spec.temperature ?? null,
+      timeUnit,
+      timeUnitGiven: !!spec.timeUnitGiven,
+      velocityUnit,
+      velocityUnitGiven: !!spec.velocityUnitGiven,
+      intervalFromOption: checks.timedFrames === 0,
+    },
+    warnings,
+  );
+  const fileUnits: Record<string, FileUnit> = {
+    lengths: { unit: 'A', from: run.input.format === 'pdb' ? 'file' : 'assumed' },
+  };
+  if (checks.timedFrames > 0) fileUnits.time = { unit: timeUnit, from: spec.timeUnitGiven ? '--time-unit' : 'assumed' };
+  if (checks.velocityFramesSeen > 0) fileUnits.velocities = { unit: velocityUnit, from: spec.velocityUnitGiven ? '--velocity-unit' : 'assumed' };
+  return { ...run, partials, checks, input: { ...run.input, atomKinds: atomKinds(run.ctx.topology), fileUnits } };
 }
 
 /** Write the partial results of a run (see src/partials.ts), staged until the command succeeds. */

@@ -7,6 +7,8 @@ import type { FrameSeed } from '../../readers/common.js';
 import { runPasses, type FrameRange, type RunOutput } from '../runner.js';
 import type { InputRecord } from '../output.js';
 import type { CellMatrix, Pass, Warnings } from '../types.js';
+import type { ChecksResult } from '../checks.js';
+import { UNIT_FACTORS } from '../units.js';
 
 /** What to read and how: every field is plain data (structured-clone safe). */
 export interface ReadSpec {
@@ -23,6 +25,16 @@ export interface ReadSpec {
   range?: FrameRange;
   /** Masses (g/mol) by atom label that replace the element-based ones. */
   masses?: Array<[string, number]>;
+  /** Elements by atom label that replace the ones read from the labels (--elements). */
+  elements?: Array<[string, string]>;
+  /** Unit of the file's frame times (src/units.ts time units) and whether the user gave it; default ps, assumed. */
+  timeUnit?: string;
+  timeUnitGiven?: boolean;
+  /** Unit of the file's velocities (src/units.ts velocity units) and whether the user gave it; default Å/ps, assumed. */
+  velocityUnit?: string;
+  velocityUnitGiven?: boolean;
+  /** The temperature the command was given (K), checked against the kinetic temperature; absent when none. */
+  temperature?: number;
 }
 
 /**
@@ -43,6 +55,8 @@ export interface SharePlan {
 /** Result of reading one trajectory through a set of passes. */
 export interface TrajectoryRun extends RunOutput {
   input: InputRecord;
+  /** The plausibility checks of the read (src/checks.ts), set by src/engine/execute.ts. */
+  checks?: ChecksResult;
 }
 
 /**
@@ -71,6 +85,9 @@ export async function readShare(
     range: how.range,
     warnings,
     ...(spec.masses ? { masses: new Map(spec.masses) } : {}),
+    ...(spec.elements ? { elements: new Map(spec.elements) } : {}),
+    timeFactor: UNIT_FACTORS.time[spec.timeUnit ?? 'ps'] ?? 1,
+    velocityFactor: UNIT_FACTORS.velocity[spec.velocityUnit ?? 'A/ps'] ?? 1,
     ...(how.onFrame ? { onFrame: how.onFrame } : {}),
   });
   return {

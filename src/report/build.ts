@@ -69,7 +69,7 @@ interface Parts {
 function buildParts(data: ReportData, ctx: ReportContext): { parts: Parts; joins: ReturnType<typeof reportJoins> } {
   const joins = reportJoins(data);
   const parts: Parts = {
-    system: systemSection(data.overview, data.trajectoryPath, data.labelCharges, ctx),
+    system: systemSection(data.overview, data.trajectoryPath, data.labelCharges, ctx, data.inputs[0]?.fileUnits),
     structure: data.structure ? structureSection(data.structure, ctx) : null,
     shells: data.shells.length ? shellSection(data.shells, ctx) : null,
     viscosity: data.viscosity ? viscositySection(data.viscosity, ctx) : null,

@@ -74,6 +74,32 @@ export const resultsSchema = {
         bytes: { type: 'integer', minimum: 0 },
         format: { type: 'string', minLength: 1 },
         frames: { anyOf: [{ type: 'integer', minimum: 0 }, { type: 'null' }] },
+        atomKinds: {
+          description: 'Trajectories: per atom label, the element and mass (g/mol) used and where each came from.',
+          type: 'array',
+          items: {
+            type: 'object',
+            required: ['label', 'atoms', 'element', 'mass', 'from', 'elementFrom'],
+            properties: {
+              label: { type: 'string' },
+              atoms: { type: 'integer', minimum: 1 },
+              element: { type: 'string' },
+              mass: { anyOf: [{ type: 'number', minimum: 0 }, { type: 'null' }] },
+              from: { type: 'string' },
+              elementFrom: { type: 'string' },
+              readings: { type: 'array', items: { type: 'string' } },
+            },
+          },
+        },
+        fileUnits: {
+          description: 'The units the numbers of the file were read in, and where each came from (the file, an option, or assumed).',
+          type: 'object',
+          additionalProperties: {
+            type: 'object',
+            required: ['unit', 'from'],
+            properties: { unit: { type: 'string' }, from: { type: 'string' } },
+          },
+        },
       },
     },
     quantity: {

@@ -6,6 +6,7 @@
  * + minimum-image step; Allen & Tildesley, Computer Simulation of Liquids, 2nd ed. 2017, §1.6).
  * Cost O(atoms) per frame; memory as in the store's module comment.
  */
+import { checkMassesUsed } from '../masses.js';
 import type { CellMatrix, Frame, PassContext, Topology } from '../types.js';
 import { CellGeometry, isOrthorhombic, volume as cellVolume } from '../cell.js';
 import { Unwrapper } from '../unwrap.js';
@@ -231,6 +232,8 @@ export function createStore(ctx: PassContext, opts: StoreOptions) {
   const setup = storeSetup(topo, opts);
   const { layout, fullMap, map, q, unwrapAtoms, siteSlot, fullSlot, collectiveAtomCharge, comWeights, comTotal, simpleSlots, identity } = setup;
   const removeDrift = opts.removeDrift ?? true;
+  // Drift removal and molecule centres weigh atoms by mass: say where the masses came from.
+  if (removeDrift || layout.molecules) checkMassesUsed(topo, ctx.file ?? '<input>', ctx.warnings, removeDrift ? 'removing the centre-of-mass drift (--keep-drift keeps it)' : 'the molecules\' centres of mass');
   const coll = q ? new Growable() : null;
   let collV = q && (opts.keepVelocities || opts.collectiveVelocities) ? new Growable() : null;
   const unwrapper = new Unwrapper(unwrapAtoms);

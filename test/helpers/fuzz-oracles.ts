@@ -45,6 +45,11 @@ export function bytesOf(text: string): Buffer {
   return Buffer.from(text, 'latin1');
 }
 
+/** A token of the (one char = one byte) text as the readers decode labels and names: UTF-8 (WHATWG decoder, U+FFFD for malformed bytes). */
+export function utf8Of(token: string): string {
+  return Buffer.from(token, 'latin1').toString('utf8');
+}
+
 /** Cut bytes into chunks of the given sizes (cycled). */
 export function chunked(buf: Uint8Array, sizes: number[] | null | undefined): Uint8Array[] {
   if (!sizes || sizes.length === 0) return [buf];
@@ -351,7 +356,7 @@ export function checkXyz(text: string, out: Extract<TrajOutcome, { ok: true }>, 
       p.expect(t.length === layout.cols.length, () => `line ${L + 3 + i}: ${t.length} columns, layout has ${layout.cols.length}`);
       layout.cols.forEach((c, j) => {
         const tok = t[j];
-        if (c === 'L') p.expect(tok === out.labels[i], () => `line ${L + 3 + i}: label '${tok}' but topology says '${out.labels[i]}'`);
+        if (c === 'L') p.expect(tok !== undefined && utf8Of(tok) === out.labels[i], () => `line ${L + 3 + i}: label '${tok}' but topology says '${out.labels[i]}'`);
         else if (typeof c === 'number') {
           const v = c < 3 ? f.positions[3 * i + c]! : f.velocities ? f.velocities[3 * i + c - 3]! : NaN;
           p.expect(same(v, numberOf(tok)), () => `line ${L + 3 + i} column ${j + 1}: read ${v}, file says '${tok}'`);
@@ -464,7 +469,7 @@ export function checkPdb(text: string, out: Extract<TrajOutcome, { ok: true }>, 
       p.expect(l.length >= 54, () => `line ${ln}: an ATOM record of ${l.length} columns was accepted`);
       const name = (l + '    ').slice(12, 16);
       p.expect(name === names0[i], () => `line ${ln}: atom name '${name}' differs from frame 1's '${names0[i]}'`);
-      if (k === 0) p.expect(out.labels[i] === name.trim(), () => `label ${out.labels[i]} is not the name '${name}'`);
+      if (k === 0) p.expect(out.labels[i] === utf8Of(name).trim(), () => `label ${out.labels[i]} is not the name '${name}'`);
       for (let d = 0; d < 3; d++) {
         const tok = l.slice(30 + 8 * d, 38 + 8 * d).trim();
         p.expect(same(f.positions[3 * i + d]!, numberOf(tok)), () => `line ${ln} coordinate ${d}: read ${f.positions[3 * i + d]}, columns say '${tok}'`);
@@ -532,7 +537,10 @@ export function checkTable(text: string, out: Extract<TableOutcome, { ok: true }
   p.expect(out.columns.size === nc, () => `${out.columns.size} columns for ${nc} names ${JSON.stringify(out.names)}`);
   p.expect(new Set(out.names).size === nc, () => `duplicate column names accepted: ${JSON.stringify(out.names)}`);
   if (header) {
-    const hn = firstFields.map((x) => x.replace(/^"(.*)"$/, '$1').replace(/^'(.*)'$/, '$1'));
+    // Names are decoded as UTF-8 before they are split (a lone byte 0xA0 is no blank then).
+    const firstText = utf8Of(first);
+    const namesFields = (kind === 'csv' ? firstText.split(',') : kind === 'tsv' ? firstText.split('\t') : firstText.trim().split(/[ \t\r]+/)).map((x) => x.trim());
+    const hn = namesFields.map((x) => x.replace(/^"(.*)"$/, '$1').replace(/^'(.*)'$/, '$1'));
     p.expect(JSON.stringify(hn) === JSON.stringify(out.names), () => `names ${JSON.stringify(out.names)} but the header says ${JSON.stringify(hn)}`);
   }
   data.forEach(({ l, i }, r) => {

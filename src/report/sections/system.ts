@@ -12,7 +12,13 @@ import type { ReportContext, SectionPart, SummaryEntry } from '../model.js';
  * density of a fixed cell (total mass / cell volume) goes into the summary. No results.json part
  * (the overview is written as it is).
  */
-export function systemSection(ov: OverviewResult, trajectoryPath: string, labelCharges: ReadonlyMap<string, number>, ctx: ReportContext): SectionPart<null> {
+export function systemSection(
+  ov: OverviewResult,
+  trajectoryPath: string,
+  labelCharges: ReadonlyMap<string, number>,
+  ctx: ReportContext,
+  fileUnits?: Record<string, { unit: string; from: string }>,
+): SectionPart<null> {
   const rows: string[][] = [
     ['trajectory', trajectoryPath],
     ['frames used', String(ov.frames)],
@@ -25,6 +31,9 @@ export function systemSection(ov: OverviewResult, trajectoryPath: string, labelC
     ['mass density', ov.massDensity ? `${formatSig(ov.massDensity.value, 5)} g/cm³` : 'unknown (some masses unknown: give --masses)'],
     ['velocities in the file', ov.hasVelocities ? 'yes' : 'no'],
     ['temperature (given)', `${formatSig(ctx.temperatureK, 6)} K`],
+    ['kinetic temperature', ov.kineticTemperature ? `${formatSig(ov.kineticTemperature.value, 4)} K (equipartition over 3N degrees of freedom, from the velocities and masses)` : '—'],
+    ...ov.atomKinds.map((k) => [`mass of ${k.label}`, `${k.mass !== null ? `${formatSig(k.mass, 6)} g/mol` : 'unknown'} (${k.from}); element ${k.element === 'X' ? 'none' : k.element}${k.elementFrom !== k.from ? ` (${k.elementFrom})` : ''}`]),
+    ...Object.entries(fileUnits ?? {}).map(([what, u]) => [`${what} read in`, `${u.unit.replace(/^A/, 'Å')} (${u.from})`]),
   ];
   for (const [l, q] of labelCharges) rows.push([`charge of ${l}`, `${q > 0 ? '+' : ''}${q} e`]);
   const summary: SummaryEntry[] = [];
