@@ -516,6 +516,7 @@ export function conductivityPass(opts: ConductivityPassOptions): Pass<StoreParti
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
   return {
     name: 'conductivity',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish: (p, ctx) => analyseConductivity(p, resolveLayout(layout, ctx.topology), ctx, opts),

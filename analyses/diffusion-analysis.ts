@@ -125,6 +125,7 @@ export function diffusionPass(o: DiffusionOptions): Pass<StorePartial, Diffusion
   const store = storePass({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: true });
   return {
     name: 'diffusion',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish(p, ctx) {

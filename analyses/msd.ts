@@ -537,6 +537,7 @@ export function msdPass(opts: MsdPassOptions = {}): Pass<StorePartial, MsdResult
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: false });
   return {
     name: 'msd',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish: (p, ctx) => analyseMsd(p, resolveLayout(layout, ctx.topology), ctx, opts),

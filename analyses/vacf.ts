@@ -583,6 +583,7 @@ export function vacfPass(opts: VacfPassOptions = {}): Pass<StorePartial, VacfRes
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: true });
   return {
     name: 'vacf',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish: (p, ctx) => analyseVacf(p, resolveLayout(layout, ctx.topology), ctx, opts),

@@ -27,6 +27,7 @@ export interface TrajectoryOptions {
   partialOut?: string;
   threads?: string;
   masses?: string;
+  keepLaterCopy?: boolean;
 }
 
 /** Add --json and --quiet. */
@@ -45,6 +46,7 @@ export function addTrajectoryOptions(cmd: Command): Command {
     .option('--frames <from:to[:stride]>', 'use frames FROM..TO-1 (0-based) with a stride')
     .option('--frame-interval <time>', 'time between stored frames when the file has no times, e.g. 0.05ps or 50fs')
     .option('--masses <pairs>', 'masses by atom label in g/mol, for labels that are not element symbols, e.g. "Sv=18,CH3=15.035"')
+    .option('--keep-later-copy', 'where frames repeat (a run continued from a restart appended to output it overlaps, or a frame written twice), use the later copy and leave out the earlier one')
     .option('--partial-out <file>', 'also write this run\'s partial results (for `sojourn merge` of jobs over frame ranges)')
     .option('--threads <n>', 'threads that share the frames, this one included (default: number of cores for plain files, 1 for gzipped ones; 1 = no workers)');
   return addOutputOptions(cmd);
@@ -124,6 +126,7 @@ export function readSpecOf(file: string, opts: TrajectoryOptions): ReadSpec {
     frameInterval: parsePositiveTime(opts.frameInterval, '--frame-interval'),
     ...(opts.frames ? { range: parseFrameRange(opts.frames) } : {}),
     ...(masses ? { masses: [...masses] } : {}),
+    ...(opts.keepLaterCopy ? { keepLater: true } : {}),
   };
 }
 

@@ -23,6 +23,14 @@ export interface ReadSpec {
   range?: FrameRange;
   /** Masses (g/mol) by atom label that replace the element-based ones. */
   masses?: Array<[string, number]>;
+  /**
+   * Where frames repeat (a run continued from a restart appended to output it overlaps), keep
+   * the later copy: the engine finds the earlier copies first (src/sequence.ts overlapDrops)
+   * and sets `drop`.
+   */
+  keepLater?: boolean;
+  /** Used frames to leave out (file indices, sorted [from, to) ranges). */
+  drop?: Array<[number, number]>;
 }
 
 /**
@@ -53,7 +61,14 @@ export async function readShare(
   spec: ReadSpec,
   passes: Pass[],
   warnings: Warnings,
-  how: { range: FrameRange | undefined; plan: SharePlan | null; onFrame?: (used: number) => void },
+  how: {
+    range: FrameRange | undefined;
+    plan: SharePlan | null;
+    onFrame?: (used: number) => void;
+    /** A share of a split read: the frame read before the range (see RunOptions.lead), and no sequence checks (the engine checks the joined record). */
+    lead?: number;
+    share?: boolean;
+  },
 ): Promise<TrajectoryRun> {
   const { plan } = how;
   const input = await openTrajectory(spec.file, {
@@ -72,6 +87,9 @@ export async function readShare(
     warnings,
     ...(spec.masses ? { masses: new Map(spec.masses) } : {}),
     ...(how.onFrame ? { onFrame: how.onFrame } : {}),
+    ...(how.lead !== undefined ? { lead: how.lead } : {}),
+    ...(spec.drop ? { drop: spec.drop } : {}),
+    ...(how.share ? { checkSequence: false } : {}),
   });
   return {
     ...out,

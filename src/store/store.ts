@@ -567,6 +567,7 @@ function concat(a: Float64Array, b: Float64Array): Float64Array {
 export function storePass(opts: StoreOptions, name = 'store'): Pass<StorePartial, StorePartial> {
   return {
     name,
+    needsEvenSpacing: true,
     create: (ctx) => createStore(ctx, opts),
     merge: mergeStores,
     finish: (p) => p,
