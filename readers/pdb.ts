@@ -439,6 +439,7 @@ export class PdbParser implements LineHandler<Frame> {
 
   private finishFrame(endLine: number | null): Frame | null {
     if (this.skipping) {
+      this.opts.onSkippedCell?.(this.frameIndex, this.frameLine, this.hasCell ? this.cell : null);
       if (this.nAtoms < 0 && this.refAtoms < 0) this.refAtoms = this.atom;
       this.frameIndex++;
       this.complete++;
