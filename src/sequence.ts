@@ -229,7 +229,8 @@ export class SequenceChecker {
   private ref: number | null = null;
   /** First uneven interval, kept for the warning when no pass needs even spacing. */
   private uneven: { k: number; gap: number } | null = null;
-  private readonly prints = new Map<string, number>();
+  /** Fingerprint hash → first entry with it (the sums tell a hash collision from a repeat). */
+  private readonly prints = new Map<number, number>();
 
   constructor(ctx: SequenceContext) {
     this.ctx = ctx;
@@ -244,15 +245,15 @@ export class SequenceChecker {
       this.timed = !Number.isNaN(t);
       this.firstFlags = flags;
       if (this.timed) this.decimals = writtenDecimals(t);
-      else this.prints.set(`${log.sum[k]}:${log.hash[k]}`, 0);
+      else this.prints.set(log.hash[k]!, 0);
       return;
     }
     this.presence(log, k, flags);
     if (!this.timed) {
-      const key = `${log.sum[k]}:${log.hash[k]}`;
-      const j = this.prints.get(key);
-      if (j !== undefined) throw this.repeatedFrame(log, k, j);
-      this.prints.set(key, k);
+      const j = this.prints.get(log.hash[k]!);
+      if (j === undefined) this.prints.set(log.hash[k]!, k);
+      // Equal hashes of different sums are a collision of the 32-bit hash (odds 2⁻³² a pair), not a repeat.
+      else if (log.sum[j] === log.sum[k]) throw this.repeatedFrame(log, k, j);
       return;
     }
     this.decimals = Math.max(this.decimals, writtenDecimals(t));

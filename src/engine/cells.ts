@@ -38,7 +38,6 @@ export async function firstCellBelow(spec: ReadSpec, reach: number): Promise<Cel
       ...(spec.format ? { format: spec.format } : {}),
       warnings: [],
       hash: false,
-      thread: false,
       select: { from: Infinity, to: Infinity, stride: 1 },
       onSkippedCell: (index, line, given) => {
         if (index < range.from || index >= range.to || (index - range.from) % range.stride !== 0) return;
