@@ -300,6 +300,26 @@ describe('a change at a chunk boundary is found as on one thread', () => {
     }
   });
 
+  it('an atom count, a label or a Properties= key that changes: the message, line and column of the reader', () => {
+    const w = walk(even(40));
+    const text = xyz(w);
+    const frame = 66; // lines per frame
+    const lines = text.split('\n');
+    const variants: Array<[string, (l: string[]) => void, string]> = [
+      ['count', (l) => { l[20 * frame] = String(ATOMS + 1); l.splice(20 * frame + 2, 0, 'Na 1 1 1'); }, `count.xyz:${20 * frame + 1}:1: frame 21 has ${ATOMS + 1} atoms, but the first frame has ${ATOMS}`],
+      ['label', (l) => { l[20 * frame + 2 + 3] = l[20 * frame + 2 + 3]!.replace(/^Na/, 'K'); }, `label.xyz:${20 * frame + 6}:1: atom 4 of frame 21 is labelled 'K', but 'Na' in the first frame`],
+      ['props', (l) => { l[20 * frame + 1] = l[20 * frame + 1]!.replace('Properties=species:S:1:pos:R:3', ''); }, `props.xyz:${20 * frame + 2}: frame 21 has no Properties= but the first frame has one`],
+    ];
+    for (const [name, change, want] of variants) {
+      const l = [...lines];
+      change(l);
+      const f = tmp.file(`${name}.xyz`, l.join('\n'));
+      const [r] = oneAndTwo(['msd', f]);
+      expect(r.status).toBe(1);
+      expect(r.stderr).toContain(want);
+    }
+  });
+
   it('partial files of jobs that meet at the change: merge finds it as one read does', () => {
     const w = walk(even(40));
     const cases2: Array<[string, string, RegExp]> = [
