@@ -16,9 +16,9 @@
  * frames give 2 chunks of 20 and 120 frames 7 chunks of 18.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { existsSync } from 'node:fs';
+import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { ensureBuilt, runCliBatch, scratch, type CliResult } from './helpers/cli.js';
+import { ensureBuilt, runCli, runCliBatch, scratch, type CliResult } from './helpers/cli.js';
 import { Random } from '../src/random.js';
 
 const tmp = scratch('frames');
@@ -212,6 +212,12 @@ describe('restart overlaps and repeated frames', () => {
         expect(Math.abs(g.diffusion.value / want[i].diffusion.value - 1)).toBeLessThan(1e-12);
       });
     }
+  });
+
+  it('--keep-later-copy on standard input is a usage error (the input would have to be read twice)', () => {
+    const r = runCli(['msd', '-', '--format', 'xyz', '--keep-later-copy'], { input: readFileSync(files.restart!) });
+    expect(r.status).toBe(2);
+    expect(r.stderr).toMatch(/--keep-later-copy reads the input twice/);
   });
 
   it('without times: a repeated block and a frame written twice are named (not passed silently); the same on 2 threads', () => {

@@ -56,6 +56,7 @@ export async function execute(passes: Pass[], spec: ReadSpec, plan: ExecutePlan,
 
 /** The earlier copies of repeated frames of `spec`, from a read that only records the frames. */
 async function findOverlaps(spec: ReadSpec, threads: number | null, warnings: Warnings): Promise<void> {
+  if (spec.file === '-') throw new UsageError(`${KEEP_LATER_FLAG} reads the input twice (first to find the repeated frames): give a file, not standard input`);
   const probe: ReadSpec = { ...spec, keepLater: false };
   const local = (c: Chunk) => readShare(probe, [], [], { range: c.range, plan: c.plan, share: true, ...(c.lead !== undefined ? { lead: c.lead } : {}) });
   const scratch: Warnings = [];
