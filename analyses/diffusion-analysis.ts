@@ -8,6 +8,7 @@
 import {
   addGroupSums,
   analyseMsd,
+  DOES_NOT_MOVE,
   finishMsd,
   msdPlan,
   msdSums,
@@ -28,6 +29,7 @@ import { PLANE_OPTION, SITE_OPTIONS, plateauOptions, plateauValues, siteValues }
 import { formatSig, formatTable } from '../src/output.js';
 import { quantity, type Pass, type Quantity } from '../src/types.js';
 import { CAUTION } from '../src/caution.js';
+import { hasReason, type Estimate } from '../src/estimate.js';
 import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE } from '../src/fit.js';
 import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../src/numerics/compare.js';
 
@@ -91,7 +93,7 @@ export function renderDiffusion(file: string, r: DiffusionResult): string {
         dTable(g.vacf.diffusion) + (g.vacf.converged ? '' : ' *'),
         `${formatSig(g.vacf.plateau.from, 4)}–${formatSig(g.vacf.plateau.to, 4)}${g.vacf.plateau.found ? '' : ' (none)'}`,
         g.comparison.sigmas === null ? '—' : `${formatSig(g.comparison.sigmas, 2)} σ`,
-        !g.msd.converged || !g.vacf.converged ? 'not compared' : g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
+        hasReason({ reasons: (g.msd.diffusion as Partial<Estimate>).reasons ?? [] }, DOES_NOT_MOVE) ? 'does not move' : !g.msd.converged || !g.vacf.converged ? 'not compared' : g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
       ]),
     ),
   );

@@ -376,7 +376,7 @@ export class SequenceChecker {
   private unevenAdvice(log: FrameLog, k: number): string {
     const r = this.ctx.range;
     const stride = r.stride > 1 ? `:${r.stride}` : '';
-    if (this.ctx.merging) return `Merge only jobs whose frames are evenly spaced together.`;
+    if (this.ctx.merging) return `Merge the jobs on either side of the change separately: together they are not evenly spaced.`;
     return `Use --frames to analyse an evenly spaced stretch, e.g. --frames ${r.from}:${log.index[k - 1]! + 1}${stride} for the frames before the change.`;
   }
 

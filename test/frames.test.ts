@@ -396,12 +396,14 @@ describe('atoms that do not move', () => {
   // others' centre of mass. In the second file the ions (Na and Cl, 16 each) are still and a
   // neutral solvent (O, 32) walks.
   let file = '';
+  let withVelocities = '';
   let allFrozen = '';
   beforeAll(() => {
     const w = walk(even(120));
     const first = w[0]!.pos;
     const still = (keep: (a: number) => boolean) => w.map((f) => ({ ...f, pos: Float64Array.from(f.pos, (v, i) => (keep(Math.floor(i / 3)) ? first[i]! : v)) }));
     file = tmp.file('frozen.xyz', xyz(still((a) => a % 2 === 0)));
+    withVelocities = tmp.file('frozen-v.xyz', xyz(still((a) => a % 2 === 0), { velocities: true }));
     const label = (a: number) => (a % 4 === 0 ? 'Na' : a % 4 === 2 ? 'Cl' : 'O');
     allFrozen = tmp.file('frozen-ions.xyz', xyz(still((a) => a % 2 === 0), { label }));
   });
@@ -420,6 +422,12 @@ describe('atoms that do not move', () => {
     }
     const [text] = run(['msd', file, '--threads', '1']);
     expect(text!.stdout).toMatch(/Cl .* does not move/);
+    // The VACF of the same sites (velocities as written, positions still): D = 0 too.
+    const [v] = oneAndTwo(['vacf', withVelocities, '--json']);
+    expect(v.status, v.stderr).toBe(0);
+    const vcl = (JSON.parse(v.stdout).results.groups as Array<{ label: string; diffusion: { value: number; reasons: { code: string }[] } }>).find((g) => g.label === 'Cl')!;
+    expect(vcl.diffusion.value).toBe(0);
+    expect(vcl.diffusion.reasons.map((x) => x.code)).toContain('vacf.does-not-move');
   });
 
   it('conductivity with every charged site still: σ = 0, no ionicity, Haven ratio or molar conductivity', () => {
