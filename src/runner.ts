@@ -68,9 +68,12 @@ export interface ShareFailure extends Error {
   sojournFrames?: FrameLog;
 }
 
-/** Names of the passes that need evenly spaced frames. */
+/**
+ * Names of the passes that need evenly spaced frames, as messages give them (the report's
+ * coordinate store, 'store', by what it serves).
+ */
 export function evenSpacingPasses(passes: Pass[]): string[] {
-  return passes.filter((p) => p.needsEvenSpacing).map((p) => p.name);
+  return passes.filter((p) => p.needsEvenSpacing).map((p) => (p.name === 'store' ? 'the transport analyses (MSD, VACF, conductivity)' : p.name));
 }
 
 /** Parse "A:B" or "A:B:S" (0-based, end exclusive, either end may be empty) into a FrameRange. */

@@ -129,7 +129,7 @@ describe('uneven frame times', () => {
     expectTrueD(ok);
   });
 
-  it('vacf, conductivity and shell residence refuse it too', () => {
+  it('vacf, conductivity, shell residence and the report refuse it too; the report writes nothing', () => {
     const [v, c, s] = run(
       ['vacf', file, '--threads', '1'],
       ['conductivity', file, '--charges', 'Na=+1,Cl=-1', '--temperature', '300K', '--threads', '1'],
@@ -139,6 +139,11 @@ describe('uneven frame times', () => {
       expect(r.status, name).toBe(1);
       expect(r.stderr).toMatch(new RegExp(`frame 101 comes 0\\.5 ps after frame 100.*${name} needs a constant time`));
     }
+    const out = join(tmp.dir, 'uneven-report');
+    const [rep] = run(['report', file, '--temperature', '300K', '--out', out, '--threads', '1']);
+    expect(rep!.status).toBe(1);
+    expect(rep!.stderr).toMatch(/frame 101 comes 0\.5 ps after frame 100.*the transport analyses \(MSD, VACF, conductivity\) need a constant time/);
+    expect(existsSync(out)).toBe(false);
   });
 
   it('g(r) proceeds and says so in a warning, the same on 2 threads', () => {
