@@ -266,7 +266,7 @@ export class SequenceChecker {
     }
     if (Math.abs(gap - this.ref) > spacingTolerance(this.ref, this.decimals, t)) {
       if (c.evenSpacing.length > 0) {
-        throw new InputError(c.file, log.line[k]!, null, `${this.unevenText(log, k, gap)}, and ${c.evenSpacing.join(', ')} ${c.evenSpacing.length === 1 ? 'needs' : 'need'} a constant time between frames. ${this.unevenAdvice(log, k)}`);
+        throw new InputError(c.file, log.line[k]!, null, `${this.unevenText(log, k, gap)}; a constant time between frames is needed by ${c.evenSpacing.join(' and ')}. ${this.unevenAdvice(log, k)}`);
       }
       this.uneven ??= { k, gap };
     }
