@@ -12,7 +12,8 @@ import {
   type ConductivityPassOptions,
   type ConductivityResult,
 } from './conductivity.js';
-import { addGroupSums, finishMsd, msdPlan, msdSums, requireFrameInterval, type GroupSums, type MsdOptions, type MsdPlan } from './msd.js';
+import { addGroupSums, DOES_NOT_MOVE, finishMsd, msdPlan, msdSums, requireFrameInterval, type GroupSums, type MsdOptions, type MsdPlan } from './msd.js';
+import { hasReason } from '../src/estimate.js';
 import type { StorePartial } from '../src/store/store.js';
 import { resolveLayout } from '../src/store/layout.js';
 import { parseChargeRules } from '../src/store/charges.js';
@@ -47,10 +48,10 @@ export function renderConductivity(file: string, r: ConductivityResult): string 
           mScm(r.greenKubo) + (r.greenKuboConverged === false ? ' *' : ''),
           gk ? `plateau ${formatSig(gk.from, 4)}–${formatSig(gk.to, 4)} ps${gk.found ? '' : ' (no plateau)'}` : 'no velocities in the file',
         ],
-        ['ionicity σ_EH/σ_NE', formatQuantity(r.ionicity), ''],
+        ['ionicity σ_EH/σ_NE', Number.isFinite(r.ionicity.value) ? formatQuantity(r.ionicity) : '—', ''],
         ['Haven ratio σ_NE/σ_EH', formatQuantity(r.havenRatio), ''],
         ['molar conductivity Λ = σ_EH/c', formatQuantity(r.molarConductivity, 1e4, 'S cm²/mol'), r.concentration ? `c = ${formatSig(r.concentration.value, 4)} mol/L (cations)` : ''],
-        ['status', r.converged ? 'ok' : 'NOT CONVERGED', ''],
+        ['status', hasReason(r.einsteinHelfand, 'conductivity.does-not-move') ? 'no charged site moves' : r.converged ? 'ok' : 'NOT CONVERGED', ''],
       ],
     ),
   );
@@ -68,7 +69,7 @@ export function renderConductivity(file: string, r: ConductivityResult): string 
         dTable(s.diffusion),
         `${formatSig(s.fit.from, 4)}–${formatSig(s.fit.to, 4)}`,
         s.segments > 0 ? String(s.segments) : '—',
-        s.converged ? 'ok' : 'NOT CONVERGED',
+        hasReason(s.diffusion, DOES_NOT_MOVE) ? 'does not move' : s.converged ? 'ok' : 'NOT CONVERGED',
       ]),
     ),
   );

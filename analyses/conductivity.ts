@@ -38,7 +38,7 @@
  */
 import type { Pass, PassContext, Quantity, Topology } from '../src/types.js';
 import { quantity } from '../src/types.js';
-import { asQuantity, estimate, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
+import { asQuantity, estimate, hasReason, noteReason, reason, type Estimate, type Reason } from '../src/estimate.js';
 import { parseSelection, selectAtoms } from '../src/selection.js';
 import { UsageError } from '../src/errors.js';
 import { AVOGADRO, BOLTZMANN, ELEMENTARY_CHARGE, CUBIC_ANGSTROM, A2_PER_PS } from '../src/units.js';
@@ -59,7 +59,12 @@ import { chargeText, ionSites, type ChargeRule } from '../src/store/charges.js';
 import { resolveLayout, type ChargedLayout, type IonLayoutSpec } from '../src/store/layout.js';
 import { driftDescription, storeBytes, storePass, type StorePartial } from '../src/store/store.js';
 import { StoreView } from '../src/store/view.js';
-import { analyseMsd, requireFrameInterval, type MsdResult, type ReadInfo } from './msd.js';
+import { analyseMsd, DOES_NOT_MOVE, requireFrameInterval, type MsdResult, type ReadInfo } from './msd.js';
+
+/** True for a species whose sites never move (D = 0 exactly: it adds nothing, and is no failed fit). */
+function frozen(s: { diffusion: Estimate }): boolean {
+  return hasReason(s.diffusion, DOES_NOT_MOVE);
+}
 import { plateauWithSegments, velocitySourceOf } from './vacf.js';
 
 // ---------------------------------------------------------------------------------------------
@@ -304,7 +309,7 @@ function nernstEinsteinOf(species: ConductivitySpecies[], V: number, temp: numbe
     ? nernstEinsteinUncertainty(species.map((s, i) => ({ ...neInput[i]!, diffusionError: s.diffusion.uncertainty! })), V, temp)
     : null;
   const neReasons: Reason[] = [];
-  const unconverged = species.filter((x) => !x.converged).map((x) => x.label);
+  const unconverged = species.filter((x) => !x.converged && !frozen(x)).map((x) => x.label);
   if (unconverged.length) {
     neReasons.push(reason('conductivity.ne-input-not-converged', `the MSD diffusion coefficient of ${unconverged.join(', ')} did not converge`, 'not-converged'));
   }
@@ -419,23 +424,29 @@ export function analyseConductivity(
   const maxLag = Math.min(T - 1, Math.max(maxLagIndex(T, opts.maxFraction ?? DEFAULT_MAX_FRACTION), opts.fitTo !== undefined ? Math.floor(opts.fitTo / dt + 1e-9) : 0));
   const ehCurve = collectiveMsd(view, q, 0, T, maxLag);
   const sf = fitSlopeWithSegments(ehCurve, dt, T, opts, (start, count, lag) => collectiveMsd(view, q, start, count, lag));
-  const ehValue = einsteinHelfandFromSlope(sf.slope, V, temp);
-  const ehUnc = sf.slopeError === null ? null : einsteinHelfandFromSlope(sf.slopeError, V, temp);
+  // No charged site moves: the collective displacement is constant, σ = 0 exactly (the fitted
+  // slope would be round-off), and no ratio is built on it.
+  const still = m.groups.length > 0 && m.groups.every((g) => hasReason(g.diffusion, DOES_NOT_MOVE));
+  const stillReason = reason('conductivity.does-not-move', 'no charged site moves (frozen atoms?): σ = 0 exactly, and no ratio is built on it', 'not-determined');
+  const ehValue = still ? 0 : einsteinHelfandFromSlope(sf.slope, V, temp);
+  const ehUnc = still ? 0 : sf.slopeError === null ? null : einsteinHelfandFromSlope(sf.slopeError, V, temp);
+  const ehReasons = still ? [stillReason] : sf.reasons;
   const einsteinHelfand = estimate(ehValue, ehUnc, 'S/m', {
     window: { from: sf.from, to: sf.to, unit: 'ps' },
     verdict: sf.converged && ehUnc !== null ? 'ok' : 'not-converged',
-    reasons: sf.reasons,
+    reasons: ehReasons,
   });
-  for (const r of sf.reasons) noteReason(notes, reasons, r, 'Einstein–Helfand: ', true);
+  if (still) noteReason(notes, reasons, stillReason);
+  else for (const r of sf.reasons) noteReason(notes, reasons, r, 'Einstein–Helfand: ', true);
 
   // Green–Kubo.
   const gk = greenKuboOf(store, view, q, { T, maxLag, dt, V, temp }, opts, { notes, reasons });
 
-  const ionicity = species.length > 0 ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1') : quantity(NaN, null, '1');
+  const ionicity = species.length > 0 && !still ? ratioWithUncertainty(einsteinHelfand, nernstEinstein, '1') : quantity(NaN, null, '1');
   let havenRatio: Quantity | null = null;
   // One rule for a missing uncertainty (src/numerics/propagation.ts): unknown in, unknown out.
   if (ehValue > 0 && species.length > 0) havenRatio = ratioWithUncertainty(nernstEinstein, einsteinHelfand, '1');
-  else if (!(ehValue > 0)) noteReason(notes, reasons, reason('conductivity.no-haven-ratio', 'Einstein–Helfand conductivity is not positive: no Haven ratio'));
+  else if (!(ehValue > 0) && !still) noteReason(notes, reasons, reason('conductivity.no-haven-ratio', 'Einstein–Helfand conductivity is not positive: no Haven ratio'));
 
   let cations = 0;
   for (const x of species) if (x.charge > 0) cations += x.count;
@@ -444,13 +455,13 @@ export function analyseConductivity(
   if (cations > 0) {
     const c = concentrationMolPerM3(cations, V);
     concentration = quantity(c / 1000, null, 'mol/L');
-    molar = quantity(ehValue / c, ehUnc === null ? null : ehUnc / c, 'S m^2/mol');
+    if (!still) molar = quantity(ehValue / c, ehUnc === null ? null : ehUnc / c, 'S m^2/mol');
   } else if (species.length > 0) {
     noteReason(notes, reasons, reason('conductivity.no-cations', 'no cations among the ions: no salt concentration and no molar conductivity'));
   }
 
   const greenKuboConverged = gk.greenKubo === null ? null : gk.converged;
-  const converged = sf.converged && gk.converged && species.length > 0 && species.every((s) => s.converged);
+  const converged = !still && sf.converged && gk.converged && species.length > 0 && species.every((s) => s.converged || frozen(s));
   return {
     nernstEinstein,
     einsteinHelfand,
@@ -517,6 +528,7 @@ export function conductivityPass(opts: ConductivityPassOptions): Pass<StoreParti
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: opts.greenKubo ?? true });
   return {
     name: 'conductivity',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish: (p, ctx) => analyseConductivity(p, resolveLayout(layout, ctx.topology), ctx, opts),

@@ -8,6 +8,7 @@
 import {
   addGroupSums,
   analyseMsd,
+  DOES_NOT_MOVE,
   finishMsd,
   msdPlan,
   msdSums,
@@ -30,6 +31,7 @@ import { formatSig, formatTable } from '../src/output.js';
 import { quantity, type Pass, type Quantity } from '../src/types.js';
 import { CAUTION } from '../src/caution.js';
 import { DEFAULT_PLATEAU_SPAN, DEFAULT_PLATEAU_TOLERANCE } from '../src/plateau.js';
+import { hasReason, type Estimate } from '../src/estimate.js';
 import { compareEstimates, DISAGREEMENT_FACTOR, type Agreement } from '../src/numerics/compare.js';
 
 /** Options of the diffusion analysis: the sites, the MSD window and the VACF plateau. */
@@ -92,7 +94,7 @@ export function renderDiffusion(file: string, r: DiffusionResult): string {
         dTable(g.vacf.diffusion) + (g.vacf.converged ? '' : ' *'),
         `${formatSig(g.vacf.plateau.from, 4)}–${formatSig(g.vacf.plateau.to, 4)}${g.vacf.plateau.found ? '' : ' (none)'}`,
         g.comparison.sigmas === null ? '—' : `${formatSig(g.comparison.sigmas, 2)} σ`,
-        !g.msd.converged || !g.vacf.converged ? 'not compared' : g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
+        hasReason({ reasons: (g.msd.diffusion as Partial<Estimate>).reasons ?? [] }, DOES_NOT_MOVE) ? 'does not move' : !g.msd.converged || !g.vacf.converged ? 'not compared' : g.comparison.agree === null ? 'no uncertainty' : g.comparison.agree ? 'agree' : 'DISAGREE',
       ]),
     ),
   );
@@ -126,6 +128,7 @@ export function diffusionPass(o: DiffusionOptions): Pass<StorePartial, Diffusion
   const store = storePass({ layout: speciesSpec(o), removeDrift: !o.keepDrift, keepVelocities: true });
   return {
     name: 'diffusion',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish(p, ctx) {

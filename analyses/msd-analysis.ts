@@ -6,6 +6,7 @@
  */
 import {
   addGroupSums,
+  DOES_NOT_MOVE,
   finishMsd,
   msdPass,
   msdPlan,
@@ -28,6 +29,7 @@ import { formatQuantity, formatSig, formatTable, toCsv } from '../src/output.js'
 import { CAUTION } from '../src/caution.js';
 import { DEFAULT_SEGMENTS, DEFAULT_SLOPE_TOLERANCE } from '../src/fit.js';
 import type { Quantity } from '../src/types.js';
+import { hasReason } from '../src/estimate.js';
 
 /** D in the table unit 10⁻⁹ m²/s. */
 export const dTable = (q: Quantity | null) => formatQuantity(q, 1e9, '');
@@ -71,7 +73,7 @@ export function renderMsd(file: string, r: MsdResult): string {
     ...(r.yehHummer ? [dTable(g.diffusionCorrected)] : []),
     `${formatSig(g.fit.from, 4)}–${formatSig(g.fit.to, 4)}${g.fit.automatic ? '' : ' (user)'}`,
     g.segments > 0 ? String(g.segments) : '—',
-    g.converged ? 'ok' : 'NOT CONVERGED',
+    hasReason(g.diffusion, DOES_NOT_MOVE) ? 'does not move' : g.converged ? 'ok' : 'NOT CONVERGED',
   ]);
   out.push(formatTable(headers, rows));
   out.push('');

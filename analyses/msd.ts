@@ -121,6 +121,8 @@ export interface GroupSums {
   /** Σ |Δr|² and Σ |Δr|⁴ over sites and origins at the α2 lags. */
   s2: Float64Array;
   s4: Float64Array;
+  /** Sites whose stored position is the same in every frame (before any drift is removed). */
+  still?: number;
 }
 
 /** Add the sums of b (other sites, same curves) into a; returns a. */
@@ -133,6 +135,7 @@ export function addGroupSums(a: GroupSums, b: GroupSums): GroupSums {
   a.segments.forEach((sa, i) => sa.curves.forEach((seg, k) => seg.forEach((x, c) => add(x, b.segments[i].curves[k][c]))));
   add(a.s2, b.s2);
   add(a.s4, b.s4);
+  a.still = (a.still ?? 0) + (b.still ?? 0);
   return a;
 }
 
@@ -193,8 +196,35 @@ export function groupCurveSums(
       }
     }
   }
-  return { sites: sites.length, xyz, segments: segs, s2, s4 };
+  return { sites: sites.length, xyz, segments: segs, s2, s4, still: stillSites(view, sites) };
 }
+
+/**
+ * How many of `sites` never move: their stored (unwrapped, drift not removed) position is the
+ * same, bit for bit, in every frame. A moving site is usually found at the second frame, so the
+ * cost is one comparison per site unless sites are frozen.
+ */
+export function stillSites(view: StoreView, sites: ArrayLike<number>): number {
+  const T = view.frames;
+  if (T === 0) return 0;
+  const [c0, o0] = view.at(0);
+  let still = 0;
+  for (let i = 0; i < sites.length; i++) {
+    const b0 = o0 + 3 * sites[i]!;
+    const x = c0[b0]!, y = c0[b0 + 1]!, z = c0[b0 + 2]!;
+    let moved = false;
+    for (let t = 1; t < T && !moved; t++) {
+      const [c, o] = view.at(t);
+      const b = o + 3 * sites[i]!;
+      moved = c[b] !== x || c[b + 1] !== y || c[b + 2] !== z;
+    }
+    if (!moved) still++;
+  }
+  return still;
+}
+
+/** The reason of a group whose sites never move (code 'msd.does-not-move'). */
+export const DOES_NOT_MOVE = 'msd.does-not-move';
 
 /**
  * Everything the MSD analysis needs from one group in one gather (see `groupCurveSums`),
@@ -475,10 +505,17 @@ export function finishMsd(
       for (const c of comps) for (let m = 0; m <= lag; m++) s[m] += seg[c][m];
       return s;
     });
-    const notes = [...sf.notes];
-    const reasons = [...sf.reasons];
-    const dUnc = sf.slopeError === null ? null : diffusionFromSlope(sf.slopeError, dims);
-    const D = diffusionFromSlope(sf.slope, dims);
+    // Sites that never move (frozen atoms): D = 0 exactly, said in so many words. Their fitted
+    // slope is round-off of a zero curve (or, with the drift removed, the drift of the others),
+    // and no ratio may be built on it.
+    const frozen = sum.still !== undefined && sum.still === sum.sites && sum.sites > 0;
+    const notes = frozen ? [] : [...sf.notes];
+    const reasons = frozen ? [] : [...sf.reasons];
+    if (frozen) {
+      noteReason(notes, reasons, reason(DOES_NOT_MOVE, `does not move: every site keeps the same position in every frame (frozen atoms?): D = 0 exactly, and no ratio is built on it`, 'not-determined'));
+    }
+    const dUnc = frozen ? 0 : sf.slopeError === null ? null : diffusionFromSlope(sf.slopeError, dims);
+    const D = frozen ? 0 : diffusionFromSlope(sf.slope, dims);
     const ng = curves.nonGaussian.map((r) => ({ time: r.lag * dt, value: r.value }));
     if (g.sites.length < 2) noteReason(notes, reasons, reason('msd.single-site', 'a single site: its D rests on one trajectory'), '', true);
     groups.push({
@@ -492,14 +529,14 @@ export function finishMsd(
       slope: quantity(sf.slope, sf.slopeError, 'A^2/ps'),
       diffusion: estimate(D, dUnc, 'm^2/s', {
         window: { from: sf.from, to: sf.to, unit: 'ps' },
-        verdict: sf.converged ? 'ok' : 'not-converged',
+        verdict: sf.converged || frozen ? 'ok' : 'not-converged',
         reasons,
       }),
-      diffusionCorrected: yh ? quantity(D + correction, dUnc, 'm^2/s') : null,
-      segmentDiffusion: sf.segmentSlopes.map((s) => diffusionFromSlope(s, dims)),
+      diffusionCorrected: yh && !frozen ? quantity(D + correction, dUnc, 'm^2/s') : null,
+      segmentDiffusion: sf.segmentSlopes.map((s) => (frozen ? 0 : diffusionFromSlope(s, dims))),
       segments: sf.segments,
       uncertaintyFactor: sf.uncertaintyFactor,
-      converged: sf.converged,
+      converged: sf.converged && !frozen,
       notes,
       reasons,
     });
@@ -541,6 +578,7 @@ export function msdPass(opts: MsdPassOptions = {}): Pass<StorePartial, MsdResult
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: false });
   return {
     name: 'msd',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish: (p, ctx) => analyseMsd(p, resolveLayout(layout, ctx.topology), ctx, opts),

@@ -146,7 +146,7 @@ export const rdfAnalysis = defineAnalysis<RdfSpec, RdfPartial, RdfResult>({
   summary: 'radial distribution functions g(r), running coordination numbers and first shells, with block error bars',
   options: [
     { key: 'pair', flag: '--pair <A:B>', help: 'two selections separated by ":" (repeatable), e.g. "Na:el=O"', type: { kind: 'list' } },
-    { key: 'rMax', flag: '--r-max <length>', help: 'largest distance (default and limit: half the smallest perpendicular cell width)', type: { kind: 'quantity', dimension: 'length', positive: true } },
+    { key: 'rMax', flag: '--r-max <length>', help: 'largest distance (default and limit: half the smallest perpendicular cell width over the run)', type: { kind: 'quantity', dimension: 'length', positive: true } },
     { key: 'binWidth', flag: '--bin-width <length>', help: 'histogram bin width', type: { kind: 'quantity', dimension: 'length', positive: true }, default: '0.05A' },
     { key: 'skipSameMolecule', flag: '--skip-same-molecule', help: 'do not count pairs inside one molecule (needs residues, e.g. PDB)', type: { kind: 'flag' } },
     { key: 'blocks', flag: '--blocks <n>', help: 'number of time blocks for the error bars (default: from the statistical inefficiency)', type: { kind: 'integer', min: 2 } },
@@ -178,5 +178,7 @@ export const rdfAnalysis = defineAnalysis<RdfSpec, RdfPartial, RdfResult>({
   configure: configureRdf,
   pass: rdfPass,
   render: (file, r) => renderRdf(file, r),
+  // A user r-max every frame's cell must allow, checked before the read (the default fits every frame).
+  reach: (o) => (o.rMax !== null ? { distance: o.rMax, flag: '--r-max' } : null),
   outputs: [{ option: 'csv', write: (r) => rdfCsvFiles(r) }],
 });

@@ -245,15 +245,16 @@ export function rdfPass(spec: RdfSpec): Pass<RdfPartial, RdfResult> {
       }
       const topo = ctx.topology;
       const first = new CellGeometry(ctx.firstCell);
-      const { nbins } = resolveBins(spec.rMax, spec.binWidth, first.limit);
+      let { nbins } = resolveBins(spec.rMax, spec.binWidth, first.limit);
       const coarseStride = Math.max(1, Math.round(COARSE_STEP / spec.binWidth));
-      const kCoarse = Math.floor(nbins / coarseStride);
+      let kCoarse = Math.floor(nbins / coarseStride);
       let molecule: Int32Array | null = null;
       if (spec.skipSameMolecule) {
         if (!topo.residues) throw new UsageError('--skip-same-molecule needs molecule (residue) information, which this file does not carry (use a PDB file with residues)');
         molecule = topo.residues.molecule;
       }
-      const hists = spec.pairs.map((p) => new PairHistogram(selectAtoms(p.a, topo), selectAtoms(p.b, topo), nbins, spec.binWidth, { molecule }));
+      const selected = spec.pairs.map((p) => [selectAtoms(p.a, topo), selectAtoms(p.b, topo)] as const);
+      let hists = selected.map(([a, b]) => new PairHistogram(a, b, nbins, spec.binWidth, { molecule }));
       for (const [i, h] of hists.entries()) {
         if (h.orderedPairs <= 0) throw new UsageError(`pair ${spec.pairs[i].a}:${spec.pairs[i].b} has no distinct pairs of atoms to count`);
       }
@@ -282,10 +283,27 @@ export function rdfPass(spec: RdfSpec): Pass<RdfPartial, RdfResult> {
           const g = geometryFor(f.cell);
           const rMax = nbins * spec.binWidth;
           if (rMax > g.limit * (1 + 1e-12)) {
-            throw new UsageError(
-              `frame ${f.index}: r-max ${rMax} A exceeds half the smallest perpendicular width of this frame's cell ` +
-                `(${g.limit.toFixed(4)} A; the cell shrinks during the run): give --r-max ${Math.floor(g.limit * 1000) / 1000}A or less`,
-            );
+            // The default r-max is the smallest half-width over the run: a smaller cell cuts the
+            // bins of every frame to its own, which gives exactly the run with that r-max (bins
+            // start at 0 with a fixed width; merge cuts partials the same way).
+            const fewer = Math.floor(g.limit / spec.binWidth + 1e-9);
+            if (spec.rMax !== null || fewer < 1) {
+              throw new UsageError(
+                `frame ${f.index + 1}: r-max ${rMax} A exceeds half the smallest perpendicular width of this frame's cell ` +
+                  `(${g.limit.toFixed(4)} A; the cell shrinks during the run): give --r-max ${Math.floor(g.limit * 1000) / 1000}A or less`,
+              );
+            }
+            const k = Math.floor(fewer / coarseStride);
+            coarse = coarse.map((c) => {
+              const cut = truncateColumns(c.subarray(0, frames * kCoarse), kCoarse, k);
+              const out = new Float32Array(capacity * k);
+              out.set(cut);
+              return out;
+            });
+            kCoarse = k;
+            nbins = fewer;
+            const examined = hists.map((h) => h.pairsExamined);
+            hists = selected.map(([a, b], i) => Object.assign(new PairHistogram(a, b, nbins, spec.binWidth, { molecule }), { pairsExamined: examined[i]! }));
           }
           const key = Math.floor(f.index / chunkSize);
           let chunk = chunks[chunks.length - 1];

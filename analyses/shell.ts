@@ -207,6 +207,7 @@ export function shellPass(spec: ShellSpec): Pass<ShellPartial, ShellResult> {
   if (!(spec.tolerance >= 0)) throw new UsageError(`--tolerance must not be negative, got ${spec.tolerance}`);
   return {
     name: 'shell',
+    needsEvenSpacing: true,
     create(ctx: PassContext) {
       if (!ctx.firstCell) throw new UsageError('the shell analysis needs a periodic cell and this file has none: give it with --box');
       const centres = selectAtoms(spec.center, ctx.topology);

@@ -49,7 +49,7 @@ export function renderVacf(file: string, r: VacfResult): string {
         formatQuantity(g.diffusion, 1e9, ''),
         `${formatSig(g.plateau.from, 4)}–${formatSig(g.plateau.to, 4)}${g.plateau.found ? '' : ' (no plateau)'}`,
         formatSig(g.vacf[0], 5),
-        g.converged ? 'ok' : 'NOT CONVERGED',
+        g.reasons.some((r) => r.code === 'vacf.does-not-move') ? 'does not move' : g.converged ? 'ok' : 'NOT CONVERGED',
       ]),
     ),
   );

@@ -68,7 +68,7 @@ import { resolveLayout, speciesSpec } from '../src/store/layout.js';
 import type { SiteLayout, SpeciesLayoutOptions } from '../src/store/sites.js';
 import { driftDescription, storeBytes, storePass, type StorePartial } from '../src/store/store.js';
 import { gatherSeries, StoreView } from '../src/store/view.js';
-import { planeComponents, requireFrameInterval, type ReadInfo } from './msd.js';
+import { planeComponents, requireFrameInterval, stillSites, type ReadInfo } from './msd.js';
 
 /** cm⁻¹ per THz: 1e12 Hz / (c · 100 cm/m) = 33.35641 (c exact, SI). */
 export const WAVENUMBER_PER_THZ = 1e12 / (SPEED_OF_LIGHT * 100);
@@ -144,6 +144,8 @@ export interface VacfGroupSums {
   vacf: Float64Array;
   /** The same over each segment k (samples [kL, (k+1)L)), m = 0 … the plan's segment lag; empty when not summed. */
   segments: Float64Array[];
+  /** Sites whose stored position is the same in every frame (analyses/msd.ts stillSites). */
+  still?: number;
 }
 
 /** Segments whose curves are summed with the full run: count M, samples per segment L, largest lag. */
@@ -194,7 +196,7 @@ export function groupVacfSums(
       });
     }
   }
-  return { sites: sites.length, vacf: result, segments };
+  return { sites: sites.length, vacf: result, segments, still: stillSites(view, sites) };
 }
 
 /** Add the sums of b (other sites of the same group, same lags) into a; returns a. */
@@ -205,6 +207,7 @@ export function addVacfSums(a: VacfGroupSums, b: VacfGroupSums): VacfGroupSums {
   a.sites += b.sites;
   add(a.vacf, b.vacf);
   a.segments.forEach((x, k) => add(x, b.segments[k]));
+  a.still = (a.still ?? 0) + (b.still ?? 0);
   return a;
 }
 
@@ -510,9 +513,12 @@ export function finishVacf(
       return cumulativeTrapezoid(seg, dt).map((x) => x * toD);
     });
     const spec = cosineSpectrum(c, dt);
-    const notes = [...pw.notes];
-    const reasons = [...pw.reasons];
-    if (!(c[0] > 0)) noteReason(notes, reasons, reason('vacf.no-motion', 'C(0) is not positive (no motion)', 'not-converged'), '', true);
+    // Sites that never move: D = 0 exactly (what the VACF shows of them is the drift removed).
+    const frozen = sum.still !== undefined && sum.still === n && n > 0;
+    const notes = frozen ? [] : [...pw.notes];
+    const reasons = frozen ? [] : [...pw.reasons];
+    if (frozen) noteReason(notes, reasons, reason('vacf.does-not-move', 'does not move: every site keeps the same position in every frame (frozen atoms?): D = 0 exactly, and no ratio is built on it', 'not-determined'));
+    else if (!(c[0] > 0)) noteReason(notes, reasons, reason('vacf.no-motion', 'C(0) is not positive (no motion)', 'not-converged'), '', true);
     const sampling = correlationSamplingProblem(c, dt, 'the VACF');
     if (sampling) {
       noteReason(notes, reasons, reason('vacf.coarse-sampling', `${sampling}; the MSD value does not depend on this sampling`, 'not-converged'), '', true);
@@ -526,7 +532,7 @@ export function finishVacf(
       normalized: c.map((x) => x / c[0]),
       runningIntegral: running,
       plateau: { from: pw.window.from * dt, to: pw.window.to * dt, found: pw.found },
-      diffusion: estimate(pw.value, pw.error, 'm^2/s', {
+      diffusion: estimate(frozen ? 0 : pw.value, frozen ? 0 : pw.error, 'm^2/s', {
         window: { from: pw.window.from * dt, to: pw.window.to * dt, unit: 'ps' },
         verdict: converged ? 'ok' : 'not-converged',
         reasons,
@@ -586,6 +592,7 @@ export function vacfPass(opts: VacfPassOptions = {}): Pass<StorePartial, VacfRes
   const store = storePass({ layout, removeDrift: !opts.keepDrift, keepVelocities: true });
   return {
     name: 'vacf',
+    needsEvenSpacing: true,
     create: store.create,
     merge: store.merge,
     finish: (p, ctx) => analyseVacf(p, resolveLayout(layout, ctx.topology), ctx, opts),

@@ -62,6 +62,13 @@ export interface TrajectoryReadOptions {
   seed?: FrameSeed | null;
   /** Called at the first line of every frame, wanted or not (readers/scan.ts builds its index). */
   onFrameStart?: (info: FrameStartInfo) => void;
+  /**
+   * Called for every skipped frame with its cell (rows a, b, c in Å; null when it has none or,
+   * XYZ, when its Lattice= cannot be read): XYZ reads the comment line of skipped frames for it
+   * only when this is given; PDB gives the cell in force when the frame ends. A pre-scan of the
+   * cells (src/engine/cells.ts) skips every frame.
+   */
+  onSkippedCell?: (index: number, line: number, cell: Float64Array | null) => void;
 }
 
 /**

@@ -62,6 +62,8 @@ export interface OpenTrajectoryOptions {
   threadScript?: string | URL;
   /** Called at the first line of every frame, read or skipped (readers/scan.ts). */
   onFrameStart?: (info: FrameStartInfo) => void;
+  /** Called with the cell of every skipped frame (see TrajectoryReadOptions.onSkippedCell). */
+  onSkippedCell?: (index: number, line: number, cell: Float64Array | null) => void;
 }
 
 export interface TrajectoryInput {
@@ -191,6 +193,7 @@ export async function openTrajectory(path: string, opts: OpenTrajectoryOptions):
         ropts.seed = opts.start.seed;
       }
       if (opts.onFrameStart !== undefined) ropts.onFrameStart = opts.onFrameStart;
+      if (opts.onSkippedCell !== undefined) ropts.onSkippedCell = opts.onSkippedCell;
       const parser = fmt === 'xyz' ? new XyzParser(name, ropts) : new PdbParser(name, ropts);
       parserRef = parser;
       const chunks = replay();

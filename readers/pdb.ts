@@ -153,6 +153,9 @@ export class PdbParser implements LineHandler<Frame> {
   private refAtoms = -1;
   /** Complete frames seen (produced or skipped). */
   complete = 0;
+  /** Atoms of the current frame already given with an alternate location (name and residue columns). */
+  private readonly altSeen = new Set<string>();
+  private warnedAlt = false;
 
   constructor(file: string, opts: TrajectoryReadOptions) {
     this.file = file;
@@ -178,6 +181,8 @@ export class PdbParser implements LineHandler<Frame> {
     if (c0 === 65 /* A */ || c0 === 72 /* H */) {
       if (recordIs(buf, s, e, 'ATOM  ') || recordIs(buf, s, e, 'HETATM')) {
         if (!this.inFrame) this.startFrame(lineNo, st === undefined ? -1 : st.base + s);
+        // An alternate location (column 17) of an atom already read in this frame is no atom.
+        if (e - s > 16 && buf[s + 16] !== 32 && this.alternate(buf, s, e)) return null;
         if (this.skipping) {
           this.atom++;
           return null;
@@ -265,7 +270,30 @@ export class PdbParser implements LineHandler<Frame> {
     return null;
   }
 
+  /**
+   * True for a record that gives another location (altLoc, column 17, wwPDB v3.3) of an atom
+   * already given with one in this frame — same name (columns 13-16), residue name, chain,
+   * residue number and insertion code (18-27): the first location given is kept, as in a read
+   * of a crystal structure that takes conformer A, and the others are left out with a warning
+   * (words independent of where a read starts, so that split reads give the same one).
+   */
+  private alternate(buf: Uint8Array, s: number, e: number): boolean {
+    const key = latin1(buf, s + 12, s + 16) + latin1(buf, s + 17, Math.min(e, s + 27));
+    if (!this.altSeen.has(key)) {
+      this.altSeen.add(key);
+      return false;
+    }
+    if (!this.warnedAlt) {
+      this.warnedAlt = true;
+      this.opts.warnings.push(
+        `${this.file}: some atoms are given at alternate locations (altLoc, column 17): the first location of each atom is used and the others are left out`,
+      );
+    }
+    return true;
+  }
+
   private startFrame(lineNo: number, offset = -1): void {
+    this.altSeen.clear();
     const onStart = this.opts.onFrameStart;
     if (onStart) {
       const seed = {
@@ -411,6 +439,7 @@ export class PdbParser implements LineHandler<Frame> {
 
   private finishFrame(endLine: number | null): Frame | null {
     if (this.skipping) {
+      this.opts.onSkippedCell?.(this.frameIndex, this.frameLine, this.hasCell ? this.cell : null);
       if (this.nAtoms < 0 && this.refAtoms < 0) this.refAtoms = this.atom;
       this.frameIndex++;
       this.complete++;

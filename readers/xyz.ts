@@ -50,6 +50,8 @@ const ST_ATOMS = 2;
 const ST_BLANK = 3;
 /** A frame outside the selection: its comment and atom rows are counted, not read. */
 const ST_SKIP = 4;
+/** The comment line of a skipped frame, read for its Lattice= only (TrajectoryReadOptions.onSkippedCell). */
+const ST_SKIP_HEAD = 5;
 
 // Column actions: 0..2 position x,y,z; 3..5 velocity x,y,z; 6 label; 7 skip.
 const A_LABEL = 6;
@@ -123,6 +125,18 @@ export function parseCommentPairs(text: string): Map<string, CommentValue> {
     // A bare word without '=' (plain comment text, or an extended-XYZ flag) is skipped.
   }
   return out;
+}
+
+/**
+ * The cell of a comment line's Lattice= (9 numbers, rows a, b, c), or null when it has none or
+ * it cannot be read (the full read reports that at its line).
+ */
+export function latticeOf(comment: string): Float64Array | null {
+  if (comment.indexOf('=') < 0) return null;
+  const lat = parseCommentPairs(comment).get('lattice');
+  if (!lat) return null;
+  const nums = lat.value.trim().split(/[\s,]+/).filter((x) => x.length > 0).map(Number);
+  return nums.length === 9 && nums.every(Number.isFinite) ? Float64Array.from(nums) : null;
 }
 
 /** How the columns of an atom row map to label, positions, velocities or skipped fields. */
@@ -228,6 +242,12 @@ export class XyzParser implements LineHandler<Frame> {
     const state = this.state;
     if (state === ST_SKIP) {
       if (--this.skipLeft === 0) this.endSkipped();
+      return null;
+    }
+    if (state === ST_SKIP_HEAD) {
+      this.opts.onSkippedCell!(this.frameIndex, this.frameLine, latticeOf(latin1(buf, start, end)));
+      this.skipLeft--;
+      this.state = ST_SKIP;
       return null;
     }
     if (state === ST_ATOMS) {
@@ -364,7 +384,7 @@ export class XyzParser implements LineHandler<Frame> {
     }
     let detail: string;
     if (st === ST_COUNT) detail = `its atom-count line is cut off: ${broken!.message}`;
-    else if (st === ST_COMMENT || (st === ST_SKIP && this.skipLeft === this.count + 1)) {
+    else if (st === ST_COMMENT || st === ST_SKIP_HEAD || (st === ST_SKIP && this.skipLeft === this.count + 1)) {
       detail = `it ends after the atom count, before the comment line`;
     } else if (st === ST_SKIP) detail = `${this.count - this.skipLeft} of ${this.count} atom rows`;
     else {
@@ -477,7 +497,7 @@ export class XyzParser implements LineHandler<Frame> {
       this.count = n;
       this.frameLine = lineNo;
       this.skipLeft = n + 1;
-      this.state = ST_SKIP;
+      this.state = this.opts.onSkippedCell ? ST_SKIP_HEAD : ST_SKIP;
       return;
     }
     if (this.nAtoms < 0) {

@@ -76,6 +76,8 @@ export interface PartialFile {
   frameInterval: number | null;
   firstCell: number[] | null;
   topology: unknown;
+  /** The record of the job's used frames (src/sequence.ts FrameLog, encoded), checked when jobs merge. */
+  frames?: unknown;
   partials: unknown[];
   warnings: string[];
 }

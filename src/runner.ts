@@ -6,6 +6,7 @@ import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Warnings } 
 import { InputError, UsageError } from './errors.js';
 import { applyElements, applyMasses } from './masses.js';
 import { decimalsOf, formatQuantum } from './precision.js';
+import { FrameLogBuilder, SequenceChecker, type FrameLog } from './sequence.js';
 
 /**
  * A source of frames, as produced by readers/index.ts openTrajectory. Given a range, frames()
@@ -14,6 +15,8 @@ import { decimalsOf, formatQuantum } from './precision.js';
  */
 export interface FrameSource {
   path: string;
+  /** Format name ('xyz', 'pdb'), when the source is a file; messages word some checks by it. */
+  format?: string;
   frames(range?: FrameRange): AsyncGenerator<Frame>;
 }
 
@@ -41,6 +44,19 @@ export interface RunOptions {
   velocityFactor?: number;
   /** Called after each used frame with the number of frames used so far. */
   onFrame?: (used: number) => void;
+  /**
+   * Index of a frame before `range.from` that the reader parses first and the passes never see
+   * (a share of a split read starts one used frame early, so that the reader checks its first
+   * frame against the frame before it, exactly as one read does).
+   */
+  lead?: number;
+  /** Used frames left out (file indices, sorted [from, to) ranges): the earlier copies of repeated frames. */
+  drop?: Array<[number, number]>;
+  /**
+   * Check the frame sequence (src/sequence.ts) here, frame by frame (default). A share of a split
+   * read only records it: the engine checks the joined record (`RunOutput.frames`).
+   */
+  checkSequence?: boolean;
 }
 
 export interface RunOutput {
@@ -51,6 +67,21 @@ export interface RunOutput {
   /** Index of the first and last frame used. */
   firstIndex: number;
   lastIndex: number;
+  /** What the sequence checks need of every used frame (src/sequence.ts). */
+  frames: FrameLog;
+}
+
+/** An error thrown by a share of a split read, with the record of the frames it used before it. */
+export interface ShareFailure extends Error {
+  sojournFrames?: FrameLog;
+}
+
+/**
+ * Names of the passes that need evenly spaced frames, as messages give them (the report's
+ * coordinate store, 'store', by what it serves).
+ */
+export function evenSpacingPasses(passes: Pass[]): string[] {
+  return passes.filter((p) => p.needsEvenSpacing).map((p) => (p.name === 'store' ? 'the transport analyses (MSD, VACF, conductivity)' : p.name));
 }
 
 /** Parse "A:B" or "A:B:S" (0-based, end exclusive, either end may be empty) into a FrameRange. */
@@ -66,9 +97,12 @@ export function parseFrameRange(text: string): FrameRange {
 }
 
 /**
- * Run passes over one read of `source`. Frame times from the file, when present, fix the frame
- * interval (a user value that disagrees by more than 0.1 % is a usage error); otherwise the
- * user's value is used, multiplied by the stride.
+ * Run passes over one read of `source`. Every used frame is recorded (src/sequence.ts FrameLog)
+ * and, unless `checkSequence` is false, checked in order before the passes see it: times,
+ * cells and velocities present in every frame or none, times increasing and evenly spaced,
+ * no frame repeated. Frame times from the file, when present, fix the frame interval (a user
+ * value that disagrees by more than 0.1 % is a usage error); otherwise the user's value is
+ * used, multiplied by the stride.
  */
 export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOptions): Promise<RunOutput> {
   const range = opts.range ?? { from: 0, to: Infinity, stride: 1 };
@@ -77,88 +111,67 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
   let used = 0;
   let firstIndex = -1;
   let lastIndex = -1;
-  let firstTime: number | null = null;
-  let prevTime: number | null = null;
-  let fileInterval: number | null = null;
-  let irregular = false;
-  // Spread of the intervals, and the rounding step of the times as written (ps).
-  let minDt = Infinity;
-  let maxDt = -Infinity;
-  let timeDecimals = 0;
   const timeFactor = opts.timeFactor ?? 1;
   const velocityFactor = opts.velocityFactor ?? 1;
   // Messages name the input as the readers do ('-' is standard input).
   const name = source.path === '-' ? '<stdin>' : source.path;
+  const userInterval = opts.frameInterval !== null ? opts.frameInterval * range.stride : null;
+  const log = new FrameLogBuilder();
+  const checker =
+    opts.checkSequence === false
+      ? null
+      : new SequenceChecker({ file: name, format: source.format ?? 'frames', evenSpacing: evenSpacingPasses(passes), range, userInterval });
+  const drop = opts.drop ?? [];
+  let dropAt = 0;
   // The range goes down to the reader, so that skipped frames are not parsed.
-  for await (const f of source.frames(opts.range)) {
-    if (f.index < range.from) continue;
-    if (f.index >= range.to) break;
-    if ((f.index - range.from) % range.stride !== 0) continue;
-    if (f.cell === null && opts.cell !== null) f.cell = opts.cell;
-    if (velocityFactor !== 1 && f.velocities) {
-      const v = f.velocities;
-      for (let k = 0; k < v.length; k++) v[k] *= velocityFactor;
+  const readRange = opts.lead !== undefined && opts.range ? { ...opts.range, from: opts.lead } : opts.range;
+  try {
+    for await (const f of source.frames(readRange)) {
+      if (f.index < range.from) continue;
+      if (f.index >= range.to) break;
+      if ((f.index - range.from) % range.stride !== 0) continue;
+      while (dropAt < drop.length && drop[dropAt]![1] <= f.index) dropAt++;
+      if (dropAt < drop.length && drop[dropAt]![0] <= f.index) continue;
+      // The file's units (--velocity-unit, --time-unit) are applied before anything sees the frame.
+      if (velocityFactor !== 1 && f.velocities) {
+        const v = f.velocities;
+        for (let k = 0; k < v.length; k++) v[k] *= velocityFactor;
+      }
+      if (timeFactor !== 1 && f.time !== null) f.time *= timeFactor;
+      log.push(f);
+      checker?.check(log, log.count - 1);
+      if (f.cell === null && opts.cell !== null) f.cell = opts.cell;
+      if (accs === null) {
+        if (opts.elements) applyElements(f.topology, opts.elements, name);
+        if (opts.masses) applyMasses(f.topology, opts.masses, name);
+        ctx = {
+          topology: f.topology,
+          firstCell: f.cell ? Float64Array.from(f.cell) : null,
+          frameInterval: userInterval,
+          warnings: opts.warnings,
+          file: name,
+        };
+        const c = ctx;
+        accs = passes.map((p) => p.create(c));
+        firstIndex = f.index;
+      }
+      for (const a of accs) a.frame(f);
+      used++;
+      lastIndex = f.index;
+      opts.onFrame?.(used);
     }
-    if (f.time !== null) {
-      timeDecimals = Math.max(timeDecimals, decimalsOf(f.time));
-      if (timeFactor !== 1) f.time *= timeFactor;
-      if (prevTime !== null) {
-        const dt = f.time - prevTime;
-        if (!(dt > 0)) {
-          throw new InputError(name, f.line, null, `frame ${f.index + 1} has time ${f.time} ps, not after the previous frame's ${prevTime} ps`);
-        }
-        if (dt < minDt) minDt = dt;
-        if (dt > maxDt) maxDt = dt;
-        if (fileInterval === null) fileInterval = dt;
-        else if (Math.abs(dt - fileInterval) > 1e-6 * Math.max(1, fileInterval) + 1e-9 * Math.abs(f.time)) irregular = true;
-      } else firstTime = f.time;
-      prevTime = f.time;
-    }
-    if (accs === null) {
-      if (opts.elements) applyElements(f.topology, opts.elements, name);
-      if (opts.masses) applyMasses(f.topology, opts.masses, name);
-      ctx = {
-        topology: f.topology,
-        firstCell: f.cell ? Float64Array.from(f.cell) : null,
-        frameInterval: opts.frameInterval !== null ? opts.frameInterval * range.stride : null,
-        warnings: opts.warnings,
-        file: name,
-      };
-      const c = ctx;
-      accs = passes.map((p) => p.create(c));
-      firstIndex = f.index;
-    }
-    for (const a of accs) a.frame(f);
-    used++;
-    lastIndex = f.index;
-    opts.onFrame?.(used);
+  } catch (e) {
+    // A share of a split read hands the record of its frames to the engine with its error, so
+    // that a sequence problem in an earlier frame is reported first, as one read would.
+    if (checker === null && e instanceof Error) (e as ShareFailure).sojournFrames = log.log();
+    throw e;
   }
   if (accs === null || ctx === null) {
     throw new InputError(name, null, null, range.from > 0 ? `no frames in the range ${range.from}:${range.to === Infinity ? '' : range.to}` : 'no complete frames');
   }
-  if (fileInterval !== null) {
-    if (irregular) {
-      // The times are written to `timeDecimals` decimals: a rounding step of 10^-decimals (ps after the unit factor).
-      const quantum = 10 ** -timeDecimals * timeFactor;
-      // Messages must not depend on where a thread's share of the frames starts (equal ones are kept once).
-      // Rounding to a step q moves an interval by at most q either way; it explains the spread only
-      // when q is small beside the interval (otherwise "0.2, 0.4, 0.5" would pass for rounding).
-      const rounded = 20 * quantum <= minDt && maxDt - minDt <= 2 * quantum * (1 + 1e-6) + 1e-9 * Math.abs(prevTime ?? 0);
-      opts.warnings.push(
-        rounded
-          ? `${name}: the frame times are rounded (to ${formatQuantum(quantum)} ps), so the time between frames varies within that rounding; the interval between the first two frames is used, uncertain by up to ${formatQuantum(quantum)} ps`
-          : `${name}: frame times are not evenly spaced (the spacing varies by more than the rounding of the times); the interval between the first two frames is used`,
-      );
-    }
-    if (ctx.frameInterval !== null && Math.abs(ctx.frameInterval - fileInterval) > 1e-3 * fileInterval) {
-      throw new UsageError(
-        `--frame-interval gives ${ctx.frameInterval} ps between used frames but ${name} carries times ${fileInterval} ps apart`,
-      );
-    }
-    ctx.frameInterval = fileInterval;
-  }
-  void firstTime;
-  return { ctx, partials: accs.map((a) => a.partial()), framesUsed: used, firstIndex, lastIndex };
+  const frames = log.log();
+  if (checker) ctx.frameInterval = checker.finish(frames, opts.warnings);
+  return { ctx, partials: accs.map((a) => a.partial()), framesUsed: used, firstIndex, lastIndex, frames };
 }
 
 /** Finish every pass from its (merged) partial. */

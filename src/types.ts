@@ -109,6 +109,12 @@ export interface PassContext {
 export interface Pass<P = unknown, R = unknown> {
   /** Short identifier, used as the key of its result. */
   readonly name: string;
+  /**
+   * The result is a function of the time lag between frames (MSD, VACF, residence …), so the
+   * frames must be evenly spaced in time: an uneven spacing is an error, not a warning
+   * (src/sequence.ts).
+   */
+  readonly needsEvenSpacing?: boolean;
   /** A fresh accumulator for one stream of frames. */
   create(ctx: PassContext): PassAccumulator<P>;
   /** Combine two partials (a covers frames before b). */

@@ -18,7 +18,7 @@ async function run(job: WorkerJob): Promise<void> {
     const chunk = job.chunks[c]!;
     try {
       const passes = job.recipes.map((r) => passFromRecipe(r, PASS_FACTORIES));
-      const out = await readShare(job.read, passes, [], { range: chunk.range, plan: chunk.plan });
+      const out = await readShare(job.read, passes, [], { range: chunk.range, plan: chunk.plan, share: true, ...(chunk.lead !== undefined ? { lead: chunk.lead } : {}) });
       parentPort!.postMessage({ ...replyOf(out), chunk: c });
     } catch (err) {
       replyWorkerError(err, c);

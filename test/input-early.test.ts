@@ -116,7 +116,8 @@ describe('rounded times', () => {
     expect(two.stderr).toBe(one.stderr);
     const warnings = one.stderr.split('\n').filter((l) => l.includes('frame times'));
     expect(warnings).toEqual([
-      `sojourn: warning: ${traj}: the frame times are rounded (to 0.0001 ps), so the time between frames varies within that rounding; the interval between the first two frames is used, uncertain by up to 0.0001 ps`,
+      // The mean interval (t_79 − t_0)/79 of times 0.010753·f written to 4 decimals: 0.8495/79 (exact decimal arithmetic).
+      `sojourn: warning: ${traj}: the frame times are rounded (to 0.0001 ps), so the time between frames varies within that rounding; the mean interval (t_last − t_first)/(n − 1) = ${Number((0.8495 / 79).toPrecision(6))} ps is used`,
     ]);
     expect(one.stderr).not.toMatch(/\d\.\d{9,}/);
   });

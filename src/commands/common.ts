@@ -34,6 +34,7 @@ export interface TrajectoryOptions {
   velocityUnit?: string;
   /** A command's --temperature, when it has one: checked against the velocities' kinetic temperature. */
   temperature?: string;
+  keepLaterCopy?: boolean;
 }
 
 /** Add --json and --quiet. */
@@ -55,6 +56,7 @@ export function addTrajectoryOptions(cmd: Command): Command {
     .option('--elements <pairs>', 'elements by atom label, for labels that are not element symbols or read two ways, e.g. "CA=C,OW=O" (masses: standard atomic weights)')
     .addOption(new Option('--time-unit <unit>', 'unit of the frame times in the file (default ps)').choices(Object.keys(UNIT_FACTORS.time)))
     .addOption(new Option('--velocity-unit <unit>', 'unit of the velocities in the file (default Å/ps)').choices(Object.keys(UNIT_FACTORS.velocity)))
+    .option('--keep-later-copy', 'where frames repeat (a run continued from a restart appended to output it overlaps, or a frame written twice), use the later copy and leave out the earlier one')
     .option('--partial-out <file>', 'also write this run\'s partial results (for `sojourn merge` of jobs over frame ranges)')
     .option('--threads <n>', 'threads that share the frames, this one included (default: number of cores for plain files, 1 for gzipped ones; 1 = no workers)');
   return addOutputOptions(cmd);
@@ -149,6 +151,7 @@ export function readSpecOf(file: string, opts: TrajectoryOptions): ReadSpec {
     ...(opts.timeUnit ? { timeUnit: opts.timeUnit, timeUnitGiven: true } : {}),
     ...(opts.velocityUnit ? { velocityUnit: opts.velocityUnit, velocityUnitGiven: true } : {}),
     ...(temperature !== null && temperature > 0 ? { temperature } : {}),
+    ...(opts.keepLaterCopy ? { keepLater: true } : {}),
   };
 }
 

@@ -60,6 +60,7 @@ import {
 import { analyseConductivity, type ConductivityResult } from '../../analyses/conductivity.js';
 import { analyseViscosity, shearComponents, type StressColumns } from '../../analyses/viscosity.js';
 import { analyseSeries } from '../../analyses/converge.js';
+import { checkCellsAllow } from '../engine/cells.js';
 import { addTrajectoryOptions, parsePositiveTime, printWarnings, readSpecOf, runOnTrajectory, type TrajectoryOptions, type TrajectoryRun } from './common.js';
 import { groupSitesInBatch, planSiteBatches, readStoreInBatches, type BatchRequest, type SiteBatchPlan } from '../engine/batches.js';
 import { commanderOption } from './analysis.js';
@@ -360,6 +361,8 @@ export function register(program: Command, cc: CommandContext): void {
       for (const name of table.columns.keys()) units.set(name, columnUnit(table, name, energyUnits.get(name), '--energy-units'));
       energyTable = { table, dt, units };
     }
+    // A g(r) reach every frame's cell must allow is refused before the read (the default fits every frame).
+    if (rMax !== null && cc.source.kind === 'read') await checkCellsAllow(readSpecOf(file, opts), rMax, '--rdf-r-max');
     // The store holds every atom: positions, and velocities when the file has them; per frame the
     // centre of mass, its velocity and (batched) the collective sums Σq r and Σq v, 4 × 24 B.
     const layoutSpec = speciesSpec({});

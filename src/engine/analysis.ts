@@ -70,6 +70,12 @@ export interface TrajectoryAnalysis<O = unknown, P = unknown, R = unknown> {
   render(file: string, result: R, options: O): string;
   readonly outputs?: ReadonlyArray<OutputSpec<O, R>>;
   readonly sites?: SiteAxis<O, any, R>;
+  /**
+   * A distance the analysis needs within every frame's cell (half its smallest perpendicular
+   * width must reach it) and the option that gave it, or null: checked by a pre-scan of the
+   * cells before the read (src/engine/cells.ts), naming the first frame that falls short.
+   */
+  reach?(options: O): { distance: number; flag: string } | null;
 }
 
 /** Any analysis, for the registry. */

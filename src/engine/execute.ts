@@ -10,12 +10,15 @@ import { stageFile } from '../output.js';
 import { decodePartial, decodeTopology, encodePartial, encodeTopology, type PartialFile } from '../partials.js';
 import { VERSION } from '../version.js';
 import { readShare, type ReadSpec, type TrajectoryRun } from './read.js';
-import { readOnThreads } from './threads.js';
+import { readOnThreads, type Chunk } from './threads.js';
 import { recipeOf, withRecipe } from './recipes.js';
 import { checksPass, judgeChecks, type ChecksPartial } from '../checks.js';
 import { atomKinds } from '../masses.js';
 import type { FileUnit } from '../output.js';
 import { readFile } from 'node:fs/promises';
+import { checkSequence, joinLogs, overlapDrops, KEEP_LATER_FLAG, type FrameLog } from '../sequence.js';
+import type { Topology } from '../types.js';
+import { evenSpacingPasses } from '../runner.js';
 
 /** Where the partials come from: a read of the file, or partial-result files to merge. */
 export type RunSource = { kind: 'read' } | { kind: 'partials'; docs: PartialFile[] };
@@ -36,14 +39,18 @@ export interface ExecutePlan {
  * Run `passes` over the trajectory `spec` according to `plan`. Every read also runs the
  * plausibility checks (src/checks.ts) as a last pass: its verdicts are warnings, or an error
  * before any result is finished; the run records what it found (`checks`) and, in its input
- * record, the atoms' masses with their origin and the units the file was read in.
+ * record, the atoms' masses with their origin and the units the file was read in. With
+ * `spec.keepLater`, a first read without passes records the frames and finds the earlier copies
+ * of repeated frames (src/sequence.ts overlapDrops); they are set as `spec.drop` (once: later
+ * reads of the same spec, e.g. site batches, reuse them) and named in a warning.
  */
 export async function execute(commandPasses: Pass[], spec: ReadSpec, plan: ExecutePlan, warnings: Warnings): Promise<TrajectoryRun> {
   const passes = [...commandPasses, withRecipe(checksPass, { kind: 'checks', options: null })];
   let run: TrajectoryRun;
   if (plan.source.kind === 'partials') run = mergePartialFiles(spec.file, plan.source.docs, passes, warnings);
   else {
-    const local = (range: ReadSpec['range'], share: Parameters<typeof readShare>[3]['plan']) => readShare(spec, passes, [], { range, plan: share });
+    if (spec.keepLater && spec.drop === undefined) await findOverlaps(spec, plan.threads, warnings);
+    const local = (c: Chunk) => readShare(spec, passes, [], { range: c.range, plan: c.plan, share: true, ...(c.lead !== undefined ? { lead: c.lead } : {}) });
     const threaded = await readOnThreads(spec, passes, warnings, plan.threads, local);
     if (!threaded) {
       try {
@@ -89,6 +96,21 @@ function judged(run: TrajectoryRun, spec: ReadSpec, warnings: Warnings): Traject
   return { ...run, partials, checks, input: { ...run.input, atomKinds: atomKinds(run.ctx.topology), fileUnits } };
 }
 
+/** The earlier copies of repeated frames of `spec`, from a read that only records the frames. */
+async function findOverlaps(spec: ReadSpec, threads: number | null, warnings: Warnings): Promise<void> {
+  if (spec.file === '-') throw new UsageError(`${KEEP_LATER_FLAG} reads the input twice (first to find the repeated frames): give a file, not standard input`);
+  const probe: ReadSpec = { ...spec, keepLater: false };
+  const local = (c: Chunk) => readShare(probe, [], [], { range: c.range, plan: c.plan, share: true, ...(c.lead !== undefined ? { lead: c.lead } : {}) });
+  const scratch: Warnings = [];
+  const frames =
+    (await readOnThreads(probe, [], scratch, threads, local, { checkSequence: false }))?.frames ??
+    (await readShare(probe, [], scratch, { range: spec.range, plan: null, share: true })).frames;
+  const { drop, notes } = overlapDrops(frames);
+  spec.drop = drop;
+  const name = spec.file === '-' ? '<stdin>' : spec.file;
+  for (const n of notes) warnings.push(`${name}: ${KEEP_LATER_FLAG}: left out the earlier copy of repeated frames: ${n}`);
+}
+
 /** Write the partial results of a run (see src/partials.ts), staged until the command succeeds. */
 async function writePartialFile(target: NonNullable<ExecutePlan['partialOut']>, run: TrajectoryRun, passes: Pass[], warnings: Warnings): Promise<void> {
   const doc: PartialFile = {
@@ -107,6 +129,7 @@ async function writePartialFile(target: NonNullable<ExecutePlan['partialOut']>, 
     frameInterval: run.ctx.frameInterval,
     firstCell: run.ctx.firstCell ? Array.from(run.ctx.firstCell) : null,
     topology: encodeTopology(run.ctx.topology),
+    frames: encodePartial(run.frames),
     partials: run.partials.map(encodePartial),
     warnings: [...warnings],
   };
@@ -155,7 +178,12 @@ export async function loadPartialFiles(paths: string[]): Promise<PartialFile[]> 
   return docs;
 }
 
-/** The run that the partial files add up to, merged with the passes' own `merge` in frame order. */
+/**
+ * The run that the partial files add up to, merged with the passes' own `merge` in frame order.
+ * The jobs' frames are checked together as one read checks them: the same atoms in every job,
+ * and the joined frame records through the sequence checks (src/sequence.ts), whose interval
+ * between frames is the merged run's.
+ */
 function mergePartialFiles(file: string, docs: PartialFile[], passes: Pass[], warnings: Warnings): TrajectoryRun {
   const names = passes.map((p) => p.name);
   for (const d of docs) {
@@ -169,21 +197,56 @@ function mergePartialFiles(file: string, docs: PartialFile[], passes: Pass[], wa
     }
   }
   for (const d of docs) warnings.push(...d.warnings);
+  const name = file === '-' ? '<stdin>' : file;
+  const logs = docs.map((d) => {
+    if (d.frames === undefined) throw new UsageError(`a partial file of frames ${d.firstIndex}–${d.lastIndex} has no record of its frames (written by an older sojourn): run its job again`);
+    return decodePartial(d.frames) as FrameLog;
+  });
+  const topologies = docs.map((d) => decodeTopology(d.topology));
+  for (let i = 1; i < docs.length; i++) sameAtoms(name, docs[0]!.input.format, topologies[0]!, topologies[i]!, logs[i]!);
+  const log = joinLogs(logs);
+  const interval = checkSequence(
+    log,
+    { file: name, format: docs[0]!.input.format, evenSpacing: evenSpacingPasses(passes), range: { from: docs[0]!.firstIndex, to: Infinity, stride: 1 }, userInterval: null, merging: true },
+    warnings,
+  );
   const parts = docs.map((d) => d.partials.map(decodePartial));
   let merged = parts[0]!;
   for (let i = 1; i < parts.length; i++) merged = merged.map((m, k) => passes[k]!.merge(m, parts[i]![k]));
   const d0 = docs[0]!;
   return {
     ctx: {
-      topology: decodeTopology(d0.topology),
+      topology: topologies[0]!,
       firstCell: d0.firstCell ? Float64Array.from(d0.firstCell) : null,
-      frameInterval: d0.frameInterval,
+      frameInterval: interval ?? d0.frameInterval,
       warnings,
     },
     partials: merged,
     framesUsed: docs.reduce((s, d) => s + d.framesUsed, 0),
     firstIndex: d0.firstIndex,
     lastIndex: docs[docs.length - 1]!.lastIndex,
+    frames: log,
     input: { path: file, sha256: d0.input.sha256, bytes: d0.input.bytes, format: d0.input.format, frames: null },
   };
+}
+
+/**
+ * A later job's atoms must be the first job's, checked at its first frame in the words of the
+ * readers (the line of the frame for a count, of the atom's row in an XYZ file for a label).
+ */
+function sameAtoms(file: string, format: string, t0: Topology, t: Topology, log: FrameLog): void {
+  const frame = log.count > 0 ? log.index[0]! + 1 : 0;
+  const line = log.count > 0 ? log.line[0]! : null;
+  if (t.atoms !== t0.atoms) {
+    throw new InputError(file, line, format === 'xyz' ? 1 : null, `frame ${frame} has ${t.atoms} atoms, but the first frame has ${t0.atoms} (every frame must have the same atoms)`);
+  }
+  const k = t.labels.findIndex((x, i) => x !== t0.labels[i]);
+  if (k >= 0) {
+    throw new InputError(
+      file,
+      line !== null && format === 'xyz' ? line + 2 + k : line,
+      null,
+      `atom ${k + 1} of frame ${frame} is ${format === 'pdb' ? 'named' : 'labelled'} '${t.labels[k]}', but '${t0.labels[k]}' in the first frame (every frame must list the same atoms in the same order)`,
+    );
+  }
 }

@@ -35,6 +35,14 @@ export interface ReadSpec {
   velocityUnitGiven?: boolean;
   /** The temperature the command was given (K), checked against the kinetic temperature; absent when none. */
   temperature?: number;
+  /**
+   * Where frames repeat (a run continued from a restart appended to output it overlaps), keep
+   * the later copy: the engine finds the earlier copies first (src/sequence.ts overlapDrops)
+   * and sets `drop`.
+   */
+  keepLater?: boolean;
+  /** Used frames to leave out (file indices, sorted [from, to) ranges). */
+  drop?: Array<[number, number]>;
 }
 
 /**
@@ -67,7 +75,14 @@ export async function readShare(
   spec: ReadSpec,
   passes: Pass[],
   warnings: Warnings,
-  how: { range: FrameRange | undefined; plan: SharePlan | null; onFrame?: (used: number) => void },
+  how: {
+    range: FrameRange | undefined;
+    plan: SharePlan | null;
+    onFrame?: (used: number) => void;
+    /** A share of a split read: the frame read before the range (see RunOptions.lead), and no sequence checks (the engine checks the joined record). */
+    lead?: number;
+    share?: boolean;
+  },
 ): Promise<TrajectoryRun> {
   const { plan } = how;
   const input = await openTrajectory(spec.file, {
@@ -89,6 +104,9 @@ export async function readShare(
     timeFactor: UNIT_FACTORS.time[spec.timeUnit ?? 'ps'] ?? 1,
     velocityFactor: UNIT_FACTORS.velocity[spec.velocityUnit ?? 'A/ps'] ?? 1,
     ...(how.onFrame ? { onFrame: how.onFrame } : {}),
+    ...(how.lead !== undefined ? { lead: how.lead } : {}),
+    ...(spec.drop ? { drop: spec.drop } : {}),
+    ...(how.share ? { checkSequence: false } : {}),
   });
   return {
     ...out,

@@ -10,6 +10,7 @@ import { withRecipe } from './recipes.js';
 import { resolveLayout } from '../store/layout.js';
 import type { ReadSpec, TrajectoryRun } from './read.js';
 import type { Warnings } from '../types.js';
+import { checkCellsAllow } from './cells.js';
 
 /** How to run an analysis: the execution plan and the memory bound. */
 export interface AnalysisPlan extends ExecutePlan {
@@ -25,6 +26,8 @@ export async function runAnalysis<O, P, R>(
   plan: AnalysisPlan,
   warnings: Warnings,
 ): Promise<{ result: R; run: TrajectoryRun }> {
+  const reach = plan.source.kind === 'read' ? d.reach?.(o) ?? null : null;
+  if (reach) await checkCellsAllow(spec, reach.distance, reach.flag);
   const axis = d.sites;
   if (axis) {
     const req = { spec, maxMemory: plan.maxMemory, source: plan.source, partialOut: plan.partialOut !== undefined };

@@ -13,7 +13,8 @@ import { existsSync } from 'node:fs';
 import type { Pass, Topology, Warnings } from '../types.js';
 import { UsageError, InputError, AnalysisError } from '../errors.js';
 import { indexFrames, type FrameIndex } from '../../readers/scan.js';
-import type { FrameRange } from '../runner.js';
+import { evenSpacingPasses, type FrameRange, type ShareFailure } from '../runner.js';
+import { checkSequence, joinLogs, SequenceChecker, type FrameLog, type SequenceContext } from '../sequence.js';
 import { recipeOf, type PassRecipe } from './recipes.js';
 import type { ReadSpec, SharePlan, TrajectoryRun } from './read.js';
 
@@ -21,10 +22,16 @@ import type { ReadSpec, SharePlan, TrajectoryRun } from './read.js';
 const CHUNKS_PER_THREAD = 4;
 const MIN_CHUNK_FRAMES = 16;
 
-/** One chunk of a parallel read: its frames and where its bytes are. */
+/**
+ * One chunk of a parallel read: its frames and where its bytes are. A chunk after the first
+ * starts reading at the used frame before its range (`lead`), which the reader parses and checks
+ * but the passes never see: the reader checks the chunk's first frame against it (atom count,
+ * labels, Lattice=, Properties=, velocities), exactly as one read checks consecutive frames.
+ */
 export interface Chunk {
   range: FrameRange;
   plan: SharePlan;
+  lead?: number;
 }
 
 /** The job every worker receives in its first message. */
@@ -50,6 +57,8 @@ export interface ChunkReply {
   topology?: unknown;
   input?: TrajectoryRun['input'];
   warnings?: string[];
+  /** The record of the chunk's used frames (on failure: those used before it). */
+  frames?: FrameLog;
 }
 
 /** The error a worker's failure reply stands for (bad input and analysis failures exit 1, usage 2). */
@@ -88,7 +97,7 @@ function workerScript(): string | null {
 }
 
 /** Read one chunk on this thread. */
-export type LocalRead = (range: FrameRange, plan: SharePlan) => Promise<TrajectoryRun>;
+export type LocalRead = (chunk: Chunk) => Promise<TrajectoryRun>;
 
 /**
  * Cut the frames of `spec` into chunks: up to CHUNKS_PER_THREAD per thread, at least
@@ -100,26 +109,43 @@ function cutChunks(spec: ReadSpec, index: FrameIndex, n: number): { chunks: Chun
   const userTo = requested.to;
   const total = index.frames;
   const to = Math.min(total, userTo);
-  const used = Math.max(0, Math.ceil((to - from) / stride));
+  // Frames left out (earlier copies of repeated frames) are not counted: every chunk gets used frames.
+  const drop = spec.drop ?? [];
+  let kept: number[] | null = null;
+  if (drop.length > 0) {
+    kept = [];
+    let d = 0;
+    for (let i = from; i < to; i += stride) {
+      while (d < drop.length && drop[d]![1] <= i) d++;
+      if (d < drop.length && drop[d]![0] <= i) continue;
+      kept.push(i);
+    }
+  }
+  const used = kept ? kept.length : Math.max(0, Math.ceil((to - from) / stride));
   if (used < 2 * n) return null;
   const count = index.compressed ? n : Math.max(n, Math.min(CHUNKS_PER_THREAD * n, Math.floor(used / MIN_CHUNK_FRAMES)));
   const per = Math.ceil(used / count);
+  const at = (k: number) => (kept ? kept[k]! : from + k * stride);
   const chunks: Chunk[] = [];
   for (let c = 0; c < count; c++) {
-    const a = from + c * per * stride;
-    const b = Math.min(to, from + (c + 1) * per * stride);
-    if (a >= b) break;
+    const first = c * per;
+    const end = Math.min(used, (c + 1) * per);
+    if (first >= end) break;
+    const a = at(first);
+    const b = end === used ? to : at(end);
     // The last chunk of a range open past the file's end reads to the end of the file, as one
     // read does (so a truncated last frame is reported the same way).
     const toEnd = b === to && userTo > total;
+    const lead = a - stride >= from ? a - stride : undefined;
     const plan: SharePlan = { format: index.format, sha256: index.sha256, bytes: index.bytes };
     if (!index.compressed) {
-      const s = index.start(a);
-      if (a > 0 && s !== null) plan.start = s;
+      const startAt = lead ?? a;
+      const s = index.start(startAt);
+      if (startAt > 0 && s !== null) plan.start = s;
       const e = toEnd ? null : index.start(b);
       if (e !== null) plan.end = e.offset;
     }
-    chunks.push({ range: { from: a, to: toEnd ? Infinity : b, stride }, plan });
+    chunks.push({ range: { from: a, to: toEnd ? Infinity : b, stride }, plan, ...(lead !== undefined ? { lead } : {}) });
   }
   return { chunks, userTo };
 }
@@ -137,6 +163,7 @@ export async function readOnThreads(
   warnings: Warnings,
   threads: number | null,
   local: LocalRead,
+  how: { checkSequence?: boolean } = {},
 ): Promise<TrajectoryRun | null> {
   const n = threads ?? availableParallelism();
   const file = spec.file;
@@ -170,26 +197,35 @@ export async function readOnThreads(
   const { chunks } = cut;
   const usedWorkers = Math.min(pool.length, chunks.length - 1);
   release(usedWorkers);
-  const replies = await runChunks(pool.slice(0, usedWorkers), { read: spec, recipes: recipes as PassRecipe[], chunks }, local);
+  const seq: SequenceContext | null = how.checkSequence === false ? null : {
+    file,
+    format: index.format,
+    evenSpacing: evenSpacingPasses(passes),
+    range: spec.range ?? { from: 0, to: Infinity, stride: 1 },
+    userInterval: spec.frameInterval !== null ? spec.frameInterval * (spec.range?.stride ?? 1) : null,
+  };
+  const replies = await runChunks(pool.slice(0, usedWorkers), { read: spec, recipes: recipes as PassRecipe[], chunks }, local, seq);
   for (const w of pool) void w.terminate();
   checkSharesAgree(file, replies);
-  return mergeReplies(replies, passes, warnings, spec.range?.stride ?? 1, cut.userTo, index.frames);
+  return mergeReplies(replies, passes, warnings, spec.range?.stride ?? 1, cut.userTo, index.frames, seq);
 }
 
 /**
  * Hand the chunks out to the workers and this thread. A failure stops the hand-out; the threads
  * finish the chunk they hold, and the failure in the earliest chunk is thrown (the earliest bad
- * frame, as one read would report it). The workers' promises never reject, so no failure can go
- * unhandled while this thread is still reading.
+ * frame, as one read would report it) — unless the frames used before it, in that chunk and the
+ * earlier ones, hold a sequence problem (src/sequence.ts): one read would have stopped there
+ * first. The workers' promises never reject, so no failure can go unhandled while this thread is
+ * still reading.
  */
-async function runChunks(workers: Worker[], job: Omit<WorkerJob, 'counter'>, local: LocalRead): Promise<ChunkReply[]> {
+async function runChunks(workers: Worker[], job: Omit<WorkerJob, 'counter'>, local: LocalRead, seq: SequenceContext | null): Promise<ChunkReply[]> {
   const counter = new Int32Array(new SharedArrayBuffer(4));
   const total = job.chunks.length;
   const replies: ChunkReply[] = new Array(total);
-  const failures: Array<{ chunk: number; error: unknown }> = [];
-  const fail = (chunk: number, error: unknown) => {
+  const failures: Array<{ chunk: number; error: unknown; frames: FrameLog | undefined }> = [];
+  const fail = (chunk: number, error: unknown, frames?: FrameLog) => {
     Atomics.store(counter, 0, total);
-    failures.push({ chunk, error });
+    failures.push({ chunk, error, frames });
   };
   const finished = workers.map(
     (worker) =>
@@ -197,7 +233,7 @@ async function runChunks(workers: Worker[], job: Omit<WorkerJob, 'counter'>, loc
         worker.on('message', (m: ChunkReply & { done?: boolean }) => {
           if (m.done) resolve();
           else if (!m.ok) {
-            fail(m.chunk ?? Infinity, workerFailure(m));
+            fail(m.chunk ?? Infinity, workerFailure(m), m.frames);
             resolve();
           } else replies[m.chunk!] = m;
         });
@@ -215,17 +251,25 @@ async function runChunks(workers: Worker[], job: Omit<WorkerJob, 'counter'>, loc
   // This thread takes chunks too, from the same counter: it has the passes built already, and
   // would otherwise sit idle on cores the workers fill.
   for (let c = Atomics.add(counter, 0, 1); c < total; c = Atomics.add(counter, 0, 1)) {
-    const { range, plan } = job.chunks[c]!;
     try {
-      replies[c] = replyOf(await local(range, plan));
+      replies[c] = replyOf(await local(job.chunks[c]!));
     } catch (err) {
-      fail(c, err);
+      fail(c, err, (err as ShareFailure | null)?.sojournFrames);
     }
   }
   await Promise.all(finished);
   if (failures.length > 0) {
     failures.sort((x, y) => x.chunk - y.chunk);
-    throw failures[0]!.error;
+    const f = failures[0]!;
+    // Chunks are taken in order, so every chunk before the failed one has replied.
+    if (seq !== null && Number.isFinite(f.chunk)) {
+      const logs = replies.slice(0, f.chunk).map((r) => r.frames!);
+      if (f.frames) logs.push(f.frames);
+      const log = joinLogs(logs);
+      const checker = new SequenceChecker(seq);
+      for (let k = 0; k < log.count; k++) checker.check(log, k);
+    }
+    throw f.error;
   }
   return replies;
 }
@@ -252,11 +296,15 @@ function checkSharesAgree(file: string, replies: ChunkReply[]): void {
 /**
  * Merge the chunks' partials pairwise in frame order, level by level (merge is associative), so
  * that passes whose partials concatenate (stored coordinates) copy each frame log₂(chunks)
- * times, not chunks times. Warnings are kept once each, in chunk order.
+ * times, not chunks times. Warnings are kept once each, in chunk order. The chunks' frame
+ * records are joined and checked as one read checks its frames (src/sequence.ts), which also
+ * gives the interval between frames.
  */
-function mergeReplies(replies: ChunkReply[], passes: Pass[], warnings: Warnings, stride: number, userTo: number, total: number): TrajectoryRun {
+function mergeReplies(replies: ChunkReply[], passes: Pass[], warnings: Warnings, stride: number, userTo: number, total: number, seq: SequenceContext | null): TrajectoryRun {
+  const frames = joinLogs(replies.map((r) => r.frames!));
   const seen = new Set<string>();
   for (const r of replies) for (const w of r.warnings ?? []) if (!seen.has(w)) { seen.add(w); warnings.push(w); }
+  const frameInterval = seq !== null ? checkSequence(frames, seq, warnings) : null;
   let level = replies.map((r) => r.partials!);
   while (level.length > 1) {
     const next: unknown[][] = [];
@@ -272,13 +320,14 @@ function mergeReplies(replies: ChunkReply[], passes: Pass[], warnings: Warnings,
     ctx: {
       topology: r0.topology as Topology,
       firstCell: r0.firstCell ? Float64Array.from(r0.firstCell) : null,
-      frameInterval: r0.frameInterval ?? null,
+      frameInterval,
       warnings,
     },
     partials: level[0]!,
     framesUsed: replies.reduce((s, r) => s + (r.framesUsed ?? 0), 0),
     firstIndex: r0.firstIndex!,
     lastIndex,
+    frames,
     // Frames seen, as a read on one thread counts them: it stops after the last used frame when
     // the next one in the range would be at or past the range's end, else reads the whole file.
     input: { ...r0.input!, frames: lastIndex + stride >= userTo ? lastIndex + 1 : total },
@@ -298,11 +347,13 @@ export function replyOf(run: TrajectoryRun): ChunkReply {
     topology: run.ctx.topology,
     input: run.input,
     warnings: [...run.ctx.warnings],
+    frames: run.frames,
   };
 }
 
 /** Worker side: report a failure to the parent. */
 export function replyWorkerError(err: unknown, chunk: number): void {
   const e = err instanceof Error ? err : new Error(String(err));
-  parentPort!.postMessage({ ok: false, chunk, error: { name: e.name, message: e.message } } satisfies ChunkReply);
+  const frames = (e as ShareFailure).sojournFrames;
+  parentPort!.postMessage({ ok: false, chunk, error: { name: e.name, message: e.message }, ...(frames ? { frames } : {}) } satisfies ChunkReply);
 }

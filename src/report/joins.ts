@@ -8,7 +8,8 @@
  * src/transport.ts; each joined number is an Estimate whose verdict and reasons come from its
  * inputs (`joinReasons`).
  */
-import { asQuantity, isOk, type Estimate } from '../estimate.js';
+import { asQuantity, estimate, hasReason, isOk, reason, type Estimate } from '../estimate.js';
+import { DOES_NOT_MOVE } from '../../analyses/msd.js';
 import { quantity } from '../types.js';
 import {
   joinEstimate,
@@ -127,7 +128,8 @@ function speciesJoin(g: MsdGroupResult, eta: JoinInput, data: ReportData, L: num
 /** The conductivity joins: σ_NE, ionicity, Haven ratio, Λ and (with η) the Walden product. */
 function conductivityJoins(k: ConductivityResult, eta: JoinInput | null): ConductivityJoins {
   const ehWindow = einsteinHelfandWindowText(k);
-  const inputsNE = k.species.map((s) => joinInput(`D(${s.label}), MSD`, s.diffusion, `fit ${range(s.fit.from, s.fit.to)}`, s.converged));
+  // A species that does not move adds exactly 0 to σ_NE: no failed fit.
+  const inputsNE = k.species.map((s) => joinInput(`D(${s.label}), MSD`, s.diffusion, `fit ${range(s.fit.from, s.fit.to)}`, s.converged || hasReason(s.diffusion, DOES_NOT_MOVE)));
   const inputEH = joinInput('σ, Einstein–Helfand', k.einsteinHelfand, ehWindow, isOk(k.einsteinHelfand));
   // The ratios take their uncertainty from σ_EH and σ_NE, their verdict from σ_EH and every D.
   const ratio = ratioJoin(inputEH, joinInput('σ, Nernst–Einstein', k.nernstEinstein), '1');
@@ -140,7 +142,9 @@ function conductivityJoins(k: ConductivityResult, eta: JoinInput | null): Conduc
     inputsNE,
     inputEH,
     nernstEinstein: joinEstimate(k.nernstEinstein.value, k.nernstEinstein.uncertainty, k.nernstEinstein.unit, inputsNE),
-    ionicity: joinEstimate(ratio.value, ratio.uncertainty, ratio.unit, [inputEH, ...inputsNE]),
+    ionicity: hasReason(k.einsteinHelfand, 'conductivity.does-not-move')
+      ? estimate(NaN, null, '1', { verdict: 'not-determined', reasons: [reason('join.input-does-not-move', 'no charged site moves: no ratio', 'not-determined')] })
+      : joinEstimate(ratio.value, ratio.uncertainty, ratio.unit, [inputEH, ...inputsNE]),
     havenRatio: k.havenRatio ? ratioJoin(joinInput('σ, Nernst–Einstein', k.nernstEinstein), inputEH, '1') : null,
     molar: k.molarConductivity ? joinEstimate(k.molarConductivity.value, k.molarConductivity.uncertainty, k.molarConductivity.unit, [inputEH]) : null,
     walden,
@@ -192,7 +196,8 @@ export function reportJoins(data: ReportData): ReportJoins {
   const eta = viscosityInput(data);
   const L = data.boxLength?.length ?? null;
   const species = new Map<string, SpeciesJoin>();
-  if (data.msd && eta && L !== null) for (const g of data.msd.groups) species.set(g.label, speciesJoin(g, eta, data, L));
+  // A species that does not move (D = 0 exactly) has no finite-size correction or radius.
+  if (data.msd && eta && L !== null) for (const g of data.msd.groups) if (!hasReason(g.diffusion, DOES_NOT_MOVE)) species.set(g.label, speciesJoin(g, eta, data, L));
   const box = species.size ? data.boxLength : null;
   let missing: string | null = null;
   if (!species.size && data.msd) {

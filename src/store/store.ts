@@ -108,6 +108,7 @@ export interface StorePartial {
 export function storePass(opts: StoreOptions, name = 'store'): Pass<StorePartial, StorePartial> {
   return {
     name,
+    needsEvenSpacing: true,
     create: (ctx) => createStore(ctx, opts),
     merge: mergeStores,
     finish: (p) => p,
