@@ -7,7 +7,6 @@ import type { AnyAnalysis } from '../src/engine/analysis.js';
 import { passFromRecipe, type PassFactory, type PassRecipe } from '../src/engine/recipes.js';
 import { overviewPass } from './overview.js';
 import { framewiseObservables } from './framewise.js';
-import { rdfPass } from './rdf.js';
 import { rdfAnalysis } from './rdf-analysis.js';
 import { reportRdfPass } from './rdf-auto.js';
 import { shellAnalysis } from './shell.js';

@@ -3,7 +3,7 @@
  * first frame arrives (src/report/choose.ts `chooseRdfPairs`), so the real pass
  * (analyses/rdf.ts) is built inside this one. Options are plain data (a pass recipe).
  */
-import type { Pass, PassContext, Topology } from '../src/types.js';
+import type { Pass, PassContext } from '../src/types.js';
 import { rdfPass, mergeRdfPartials, type RdfPartial, type RdfSpec } from './rdf.js';
 import { chargesFor, type ChargeRule } from '../src/store/charges.js';
 import { chooseRdfPairs, type RdfPairChoice } from '../src/report/choose.js';

@@ -5,7 +5,6 @@
 import type { Frame, Pass, PassAccumulator, PassContext, CellMatrix, Warnings } from './types.js';
 import { InputError, UsageError } from './errors.js';
 import { applyElements, applyMasses } from './masses.js';
-import { decimalsOf, formatQuantum } from './precision.js';
 import { FrameLogBuilder, SequenceChecker, type FrameLog } from './sequence.js';
 
 /**
@@ -172,13 +171,4 @@ export async function runPasses(source: FrameSource, passes: Pass[], opts: RunOp
   const frames = log.log();
   if (checker) ctx.frameInterval = checker.finish(frames, opts.warnings);
   return { ctx, partials: accs.map((a) => a.partial()), framesUsed: used, firstIndex, lastIndex, frames };
-}
-
-/** Finish every pass from its (merged) partial. */
-export function finishPasses(passes: Pass[], partials: unknown[], ctx: PassContext): Record<string, unknown> {
-  const out: Record<string, unknown> = {};
-  passes.forEach((p, i) => {
-    out[p.name] = p.finish(partials[i], ctx);
-  });
-  return out;
 }

@@ -19,7 +19,7 @@
  * the same frame with the same words whatever the split. `overlapDrops` finds the earlier copies
  * of repeated frames for `--keep-later-copy`.
  */
-import { formatQuantum } from './precision.js';
+import { decimalsOf as writtenDecimals, formatQuantum } from './precision.js';
 import { InputError, UsageError } from './errors.js';
 import type { Frame } from './types.js';
 
@@ -157,20 +157,6 @@ export function joinLogs(logs: FrameLog[]): FrameLog {
     at += c;
   }
   return out;
-}
-
-/**
- * The fewest decimals d (0–12) a time was written with: the smallest d for which t·10^d is a
- * whole number to within 10⁻⁹ of its size (the double nearest a decimal misses the integer by a
- * few units in the last place; common practice, no source).
- */
-export function writtenDecimals(t: number): number {
-  if (!Number.isFinite(t)) return 0;
-  for (let d = 0; d < 12; d++) {
-    const x = t * 10 ** d;
-    if (Math.abs(x - Math.round(x)) <= 1e-9 * Math.max(1, Math.abs(x))) return d;
-  }
-  return 12;
 }
 
 /**

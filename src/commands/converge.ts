@@ -11,7 +11,6 @@ import { readTable, formatFromName } from '../../readers/index.js';
 import { analyseSeries, type SeriesReport, type SeriesOptions } from '../../analyses/converge.js';
 import { framewiseObservables, type FramewiseResult } from '../../analyses/framewise.js';
 import { addTrajectoryOptions, emit, parsePositiveTime, runOnTrajectory, type TrajectoryOptions } from './common.js';
-import { finishPasses } from '../runner.js';
 import { formatSig, formatTable, formatValue, type InputRecord } from '../output.js';
 import { UsageError, InputError } from '../errors.js';
 import { columnUnit, tableInput } from '../tables.js';

@@ -6,7 +6,6 @@ import type { Command } from 'commander';
 import { overviewPass, type OverviewResult } from '../../analyses/overview.js';
 import { addTrajectoryOptions, emit, runOnTrajectory, type TrajectoryOptions } from './common.js';
 import { formatSig, formatTable, type InputRecord } from '../output.js';
-import { finishPasses } from '../runner.js';
 
 /** Per label: ["mass of Sv", "18 g/mol, element S (--masses)"]. */
 export function massRows(r: OverviewResult): string[][] {

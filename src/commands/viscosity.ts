@@ -19,7 +19,6 @@ import {
 } from '../../analyses/viscosity.js';
 import { addOutputOptions, emit, parsePositiveTime, runOnTrajectory } from './common.js';
 import { uniformStep } from './converge.js';
-import { finishPasses } from '../runner.js';
 import { parseQuantity, UNIT_FACTORS } from '../units.js';
 import { UsageError, InputError } from '../errors.js';
 import { checkOutputFile, formatQuantity, formatSig, formatTable, stageFileSet, toCsv, type InputRecord } from '../output.js';
@@ -225,7 +224,6 @@ export function register(program: Command, cc: CommandContext): void {
       inputs.push(v.input);
       if (v.varies) warnings.push(`${opts.cellFrom}: the cell volume varies; its mean (${formatSig(volumeA3, 6)} Å³) is used`);
     }
-    const rows = table.rows;
     // The table's arrays are ours: centre the off-diagonal ones in place, then let the table go.
     const components = shearComponents(cols, true);
     table = null;

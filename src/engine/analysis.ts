@@ -13,7 +13,7 @@
  *   result is a function of sums over sites, so disjoint batches of sites read separately add
  *   up to one read (`--max-memory`).
  */
-import type { Pass, PassContext, Topology } from '../types.js';
+import type { Pass, PassContext } from '../types.js';
 import type { OptionSpec, OptionValues } from './options.js';
 import type { StoreOptions, StorePartial } from '../store/store.js';
 import type { SiteLayout } from '../store/sites.js';
